@@ -1,0 +1,31 @@
+# posekit: the two set-up commands of the README live here.
+#   make demo   - create/reuse .venv, install posekit with its extras, run the built-in demo
+#   make test   - create/reuse .venv, install everything (and Debian's chromium if missing), run all tests
+#   make bench  - run the benchmark scripts and print their figures
+
+PYTHON ?= python3
+VENV   ?= .venv
+BIN    := $(VENV)/bin
+STAMP  := $(VENV)/.posekit-installed
+
+.PHONY: install demo test bench clean
+
+$(STAMP): pyproject.toml
+	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+	$(BIN)/python -m pip install --quiet -e '.[notebook,test]'
+	touch $(STAMP)
+
+install: $(STAMP)
+
+demo: $(STAMP)
+	$(BIN)/python -m posekit.demo
+
+test: $(STAMP)
+	$(BIN)/python -m pytest
+
+bench: $(STAMP)
+	@for f in benchmarks/bench_*.py; do echo "== $$f"; $(BIN)/python $$f || exit 1; done
+
+clean:
+	rm -rf $(VENV) .pytest_cache .hypothesis build *.egg-info

@@ -1,0 +1,76 @@
+"""Operations on canonical rotation matrices: compose, invert, turn vectors, distance, slerp.
+
+All inputs are canonical matrices ``(..., 3, 3)`` (see :mod:`posekit.core.rotation`);
+read user numbers first with :func:`posekit.read_rotation`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from . import rotation as rot
+from .checks import as_numbers, checked_matrix
+
+__all__ = ["compose", "invert", "turn_vectors", "angle_between", "slerp"]
+
+
+def compose(*rotations) -> np.ndarray:
+    """Product ``R1 @ R2 @ ...`` of ``(..., 3, 3)`` rotations (broadcast) -> ``(..., 3, 3)``.
+
+    With parent-from-child matrices, ``compose(world_from_base, base_from_camera)``
+    is ``world_from_camera``.
+
+    >>> from posekit.core.rotation import elementary_matrix as E
+    >>> bool(np.allclose(compose(E("z", 0.3), E("z", 0.4)), E("z", 0.7)))
+    True
+    """
+    if not rotations:
+        raise TypeError("compose() needs at least one rotation")
+    out = checked_matrix(rotations[0])
+    for r in rotations[1:]:
+        out = out @ checked_matrix(r)
+    return out
+
+
+def invert(rotation) -> np.ndarray:
+    """Inverse of rotations, i.e. the transpose: ``(..., 3, 3) -> (..., 3, 3)``."""
+    return np.ascontiguousarray(np.swapaxes(checked_matrix(rotation), -1, -2))
+
+
+def turn_vectors(rotation, vectors) -> np.ndarray:
+    """Apply rotations to vectors: ``R (..., 3, 3)``, ``v (..., 3)`` -> ``R v (..., 3)`` (broadcast).
+
+    >>> from posekit.core.rotation import elementary_matrix as E
+    >>> np.round(turn_vectors(E("z", np.pi / 2), [1, 0, 0]), 12).tolist()
+    [0.0, 1.0, 0.0]
+    """
+    r = checked_matrix(rotation)
+    v = as_numbers(vectors, "vectors", (3,))
+    return np.matmul(r, v[..., None])[..., 0]
+
+
+def angle_between(a, b) -> np.ndarray:
+    """Geodesic angle in radians ``[0, pi]`` between rotations ``(..., 3, 3)`` -> ``(...)``.
+
+    Computed through quaternions with an atan2 form, accurate near 0 and near pi
+    (``acos((trace(A^T B) - 1) / 2)`` loses half the digits there; common practice).
+    """
+    qa = rot.quaternion_of_matrix(checked_matrix(a))
+    qb = rot.quaternion_of_matrix(checked_matrix(b))
+    return rot.angle_between_quaternions(qa, qb)
+
+
+def slerp(a, b, t) -> np.ndarray:
+    """Rotation a fraction ``t`` of the way from ``a`` to ``b`` along the shortest arc.
+
+    ``a, b (..., 3, 3)``, ``t (...)`` -> ``(..., 3, 3)`` (Shoemake 1985).  ``t`` may lie
+    outside [0, 1] to extrapolate.
+
+    >>> from posekit.core.rotation import elementary_matrix as E
+    >>> bool(np.allclose(slerp(np.eye(3), E("z", np.pi / 2), 0.5), E("z", np.pi / 4)))
+    True
+    """
+    qa = rot.quaternion_of_matrix(checked_matrix(a))
+    qb = rot.quaternion_of_matrix(checked_matrix(b))
+    t = as_numbers(t, "t", None) if not np.isscalar(t) else np.float64(t)
+    return rot.matrix_of_quaternion(rot.slerp_quaternions(qa, qb, t))

@@ -1,0 +1,242 @@
+"""Read numbers under a convention into the canonical rotation, and write them back.
+
+The canonical rotation (see :mod:`posekit.core.rotation`) is the active matrix that
+maps child coordinates into the parent frame.  Reading applies, in this order:
+
+1. the representation's own rule: Euler sequence and intrinsic/extrinsic, the
+   unit, quaternion scalar position and algebra (JPL gives the transpose of the
+   Hamilton matrix for the same four numbers; Trawny & Roumeliotis 2005), the
+   flat layout of 9 numbers;
+2. ``action``: *passive* parameters (angles, quaternions, rotation vectors) build
+   the transpose of the active matrix (Diebel 2006 writes all 12 sequences this
+   way).  A written-out matrix is already a map, so ``action`` does not apply to it;
+3. ``direction``: *child-from-parent* numbers describe the inverse map, so the
+   canonical (parent-from-child) rotation is their transpose.
+
+Writing runs the same steps backwards, so ``write_rotation(read_rotation(x))``
+returns ``x`` (up to the double cover of quaternions and the Euler pole family).
+
+Kinds of numbers (the ``kind`` argument):
+
+=================  =============  ===============================================
+kind               numbers        meaning
+=================  =============  ===============================================
+matrix             (..., 3, 3)    rotation matrix; or (..., 9) flat, per ``layout``
+quaternion         (..., 4)       per ``scalar`` and ``algebra``
+euler              (..., 3)       per ``sequence``, ``axes``, ``unit``
+rotation-vector    (..., 3)       axis times angle (length in ``unit``)
+axis-angle         (..., 4)       unit axis (x, y, z) then angle (in ``unit``)
+planar-angle       (...)          a turn about z (in ``unit``)
+=================  =============  ===============================================
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from . import rotation as rot
+from .checks import ORTHONORMAL_TOLERANCE, UNIT_TOLERANCE, as_numbers, checked_matrix, checked_quaternion
+from .convention import DEFAULT, Convention
+from .errors import NotUnitQuaternionError, PoseInputError, WrongShapeError, ZeroQuaternionError
+
+__all__ = ["KINDS", "read_rotation", "write_rotation", "convert", "as_convention",
+           "quaternion_product"]
+
+KINDS = ("matrix", "quaternion", "euler", "rotation-vector", "axis-angle", "planar-angle")
+
+
+def as_convention(convention) -> Convention:
+    """Accept a :class:`Convention`, its text form, or None (the default)."""
+    if convention is None:
+        return DEFAULT
+    if isinstance(convention, Convention):
+        return convention
+    return Convention.parse(convention)
+
+
+def _check_kind(kind: str) -> None:
+    if kind not in KINDS:
+        raise PoseInputError(f"unknown kind of numbers {kind!r}; accepted: {', '.join(KINDS)}")
+
+
+def _angle_scale(conv: Convention) -> float:
+    return np.pi / 180.0 if conv.degrees else 1.0
+
+
+def _flip_count(conv: Convention, parameterised: bool, kind: str) -> int:
+    flips = 0
+    if parameterised and conv.action == "passive":
+        flips += 1
+    if kind == "quaternion" and conv.algebra == "jpl":
+        flips += 1
+    if conv.direction == "child-from-parent":
+        flips += 1
+    return flips
+
+
+def _quaternion_in(numbers, conv: Convention, normalise: bool, tolerance: float):
+    q = checked_quaternion(numbers, "quaternion", tolerance=tolerance, normalise=normalise)
+    if conv.scalar == "last":
+        q = np.concatenate([q[..., 3:], q[..., :3]], axis=-1)
+    return q / np.sqrt(np.sum(q * q, axis=-1))[..., None]
+
+
+def _canonical_quaternion(numbers, kind: str, conv: Convention, normalise: bool, tolerance: float):
+    """Hamilton scalar-first quaternion *as the representation writes it* (steps 1 only)."""
+    scale = _angle_scale(conv)
+    if kind == "quaternion":
+        return _quaternion_in(numbers, conv, normalise, tolerance)
+    if kind == "euler":
+        a = as_numbers(numbers, "Euler angles", (3,)) * scale
+        return rot.quaternion_of_euler(a, conv.axes_letters, conv.intrinsic)
+    if kind == "rotation-vector":
+        v = as_numbers(numbers, "rotation vector", (3,)) * scale
+        return rot.quaternion_of_rotvec(v)
+    if kind == "axis-angle":
+        aa = as_numbers(numbers, "axis-angle", (4,))
+        axis = aa[..., :3]
+        n = np.sqrt(np.sum(axis * axis, axis=-1))
+        if np.any(n < 1e-12):
+            raise ZeroQuaternionError("axis-angle: the axis has zero length; expected a unit axis (x, y, z) "
+                                      "followed by the angle")
+        if not normalise and np.any(np.abs(n - 1.0) > tolerance):
+            raise NotUnitQuaternionError(
+                f"axis-angle: the axis length is {float(np.max(np.abs(n - 1.0)) + 1):.9g}, not 1 within "
+                f"{tolerance:g}; pass normalise=True to divide by the length on purpose")
+        return rot.quaternion_of_rotvec(axis / n[..., None] * (aa[..., 3] * scale)[..., None])
+    if kind == "planar-angle":
+        a = as_numbers(numbers, "planar angle", None) * scale
+        out = np.zeros(a.shape + (4,))
+        out[..., 0] = np.cos(0.5 * a)
+        out[..., 3] = np.sin(0.5 * a)
+        return out
+    raise AssertionError(kind)
+
+
+def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: bool = False,
+                  tolerance: float | None = None) -> np.ndarray:
+    """Read numbers of one ``kind`` under ``convention`` -> canonical matrices ``(..., 3, 3)``.
+
+    ``normalise=True`` divides quaternions (and axis-angle axes) by their length on
+    purpose; otherwise a length off 1 by more than ``tolerance`` is an error.
+
+    >>> R = read_rotation([90, 0, 0], "euler", "unit=degrees")
+    >>> np.round(R @ [1, 0, 0], 12).tolist()
+    [0.0, 1.0, 0.0]
+    """
+    conv = as_convention(convention)
+    _check_kind(kind)
+    if kind == "matrix":
+        tol = ORTHONORMAL_TOLERANCE if tolerance is None else tolerance
+        m = as_numbers(numbers, "rotation matrix", None)
+        if m.shape[-1:] == (9,) and not (m.ndim >= 2 and m.shape[-2:] == (3, 3)):
+            m = m.reshape(m.shape[:-1] + (3, 3))
+            if conv.layout == "column-major":
+                m = np.swapaxes(m, -1, -2)
+        m = checked_matrix(m, "rotation matrix", tolerance=tol)
+        if conv.direction == "child-from-parent":
+            m = np.swapaxes(m, -1, -2)
+        return np.ascontiguousarray(m)
+    tol = UNIT_TOLERANCE if tolerance is None else tolerance
+    q = _canonical_quaternion(numbers, kind, conv, normalise, tol)
+    if _flip_count(conv, True, kind) % 2:
+        q = rot.conjugate(q)
+    return rot.matrix_of_quaternion(q)
+
+
+def _wrap_out(angles, conv: Convention, outer: tuple[int, ...]):
+    if conv.wrap == "positive":
+        angles = angles.copy()
+        for i in outer:
+            angles[..., i] = np.remainder(angles[..., i], 2.0 * np.pi)
+            angles[..., i] = np.where(angles[..., i] >= 2.0 * np.pi, 0.0, angles[..., i])
+    return angles
+
+
+def write_rotation(matrix, kind: str = "quaternion", convention=None, *, flat: bool = False,
+                   check: bool = True):
+    """Write canonical matrices ``(..., 3, 3)`` as numbers of ``kind`` under ``convention``.
+
+    Quaternions come out with their scalar part >= 0.  Euler angles come out with
+    outer angles wrapped per ``wrap`` and, at a pole, the documented family member
+    (third listed angle 0; see :func:`posekit.core.rotation.euler_of_quaternion`).
+    ``flat=True`` writes matrices as ``(..., 9)`` per ``layout``.
+
+    >>> write_rotation(np.eye(3), "quaternion", "scalar=last").tolist()
+    [0.0, 0.0, 0.0, 1.0]
+    """
+    conv = as_convention(convention)
+    _check_kind(kind)
+    m = checked_matrix(matrix) if check else np.asarray(matrix, dtype=np.float64)
+    scale = _angle_scale(conv)
+    if kind == "matrix":
+        if conv.direction == "child-from-parent":
+            m = np.swapaxes(m, -1, -2)
+        if flat:
+            if conv.layout == "column-major":
+                m = np.swapaxes(m, -1, -2)
+            return np.ascontiguousarray(m).reshape(m.shape[:-2] + (9,))
+        return np.ascontiguousarray(m)
+    q = rot.quaternion_of_matrix(m)
+    if _flip_count(conv, True, kind) % 2:
+        q = rot.conjugate(q)
+    if kind == "quaternion":
+        q = rot.canonical_sign(q)
+        if conv.scalar == "last":
+            q = np.concatenate([q[..., 1:], q[..., :1]], axis=-1)
+        return q
+    if kind == "euler":
+        angles, _ = rot.euler_of_quaternion(q, conv.axes_letters, conv.intrinsic)
+        return _wrap_out(angles, conv, (0, 2)) / scale
+    if kind == "rotation-vector":
+        return rot.rotvec_of_quaternion(q) / scale
+    if kind == "axis-angle":
+        rv = rot.rotvec_of_quaternion(q)
+        angle = np.sqrt(np.sum(rv * rv, axis=-1))
+        axis = np.where(angle[..., None] > 0, rv / np.where(angle > 0, angle, 1.0)[..., None],
+                        np.array([0.0, 0.0, 1.0]))
+        return np.concatenate([axis, (angle / scale)[..., None]], axis=-1)
+    if kind == "planar-angle":
+        tilt = np.sqrt(q[..., 1] ** 2 + q[..., 2] ** 2)
+        if np.any(tilt > 1e-9):
+            worst = float(np.degrees(2 * np.arcsin(np.minimum(np.max(tilt), 1.0))))
+            raise WrongShapeError(f"planar-angle: the rotation is not a turn about z (it tilts the z axis by up "
+                                  f"to {worst:.6g} degrees); only turns about z can be written as a planar angle")
+        a = 2.0 * np.arctan2(q[..., 3], q[..., 0])
+        a = rot._wrap(a)
+        if conv.wrap == "positive":
+            a = np.remainder(a, 2.0 * np.pi)
+        return a / scale
+    raise AssertionError(kind)
+
+
+def convert(numbers, source_kind: str, target_kind: str, source=None, target=None, **options):
+    """Numbers of one kind and convention -> numbers of another kind and convention.
+
+    >>> convert([0, 0, 0, 1], "quaternion", "quaternion", "scalar=last", "scalar=first").tolist()
+    [1.0, 0.0, 0.0, 0.0]
+    """
+    normalise = options.pop("normalise", False)
+    m = read_rotation(numbers, source_kind, source, normalise=normalise)
+    return write_rotation(m, target_kind, target, check=False, **options)
+
+
+def quaternion_product(p, q, convention=None):
+    """``p ⊗ q`` in the convention's scalar position and algebra: ``(..., 4)`` each.
+
+    JPL: ``p ⊗ q`` equals the Hamilton product ``q ⊗ p`` of the same numbers
+    (Sommer et al., Aerospace 5(3):72, 2018).
+
+    >>> quaternion_product([1, 0, 0, 0], [0, 0, 1, 0], "scalar=last").tolist()   # i j = k, scalar last
+    [0.0, 0.0, 1.0, 0.0]
+    """
+    conv = as_convention(convention)
+    p = as_numbers(p, "quaternion p", (4,))
+    q = as_numbers(q, "quaternion q", (4,))
+    if conv.scalar == "last":
+        p = np.concatenate([p[..., 3:], p[..., :3]], axis=-1)
+        q = np.concatenate([q[..., 3:], q[..., :3]], axis=-1)
+    out = rot.hamilton_product(p, q) if conv.algebra == "hamilton" else rot.hamilton_product(q, p)
+    if conv.scalar == "last":
+        out = np.concatenate([out[..., 1:], out[..., :1]], axis=-1)
+    return out
