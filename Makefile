@@ -22,6 +22,7 @@ demo: $(STAMP)
 	$(BIN)/python -m posekit.demo
 
 test: $(STAMP)
+	bash scripts/need-chromium
 	$(BIN)/python -m pytest
 
 bench: $(STAMP)

@@ -1,0 +1,5 @@
+"""Widget layer: ipywidgets glue over posekit's analysis and view layers. No math of its own."""
+
+from .explorer import Explorer
+
+__all__ = ["Explorer"]

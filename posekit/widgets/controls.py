@@ -1,0 +1,101 @@
+"""Shared ipywidgets building blocks: the convention bar and slider-plus-number rows.
+
+Glue only: the values live in traitlets of the owning widget; nothing here computes.
+"""
+
+from __future__ import annotations
+
+import ipywidgets as w
+
+from ..core.convention import CHOICES
+
+__all__ = ["ConventionBar", "NumberRow"]
+
+_LABELS = {
+    "sequence": "Euler sequence",
+    "axes": "turn about",
+    "unit": "angle unit",
+    "wrap": "read-back range",
+    "scalar": "quaternion w",
+    "algebra": "quaternion algebra",
+    "action": "angles build",
+    "direction": "transform maps",
+    "layout": "flat matrix order",
+}
+_WORDS = {
+    "intrinsic": "moving axes (intrinsic)",
+    "extrinsic": "fixed axes (extrinsic)",
+    "signed": "signed",
+    "positive": "positive",
+    "first": "first (w x y z)",
+    "last": "last (x y z w)",
+    "hamilton": "Hamilton ij=k",
+    "jpl": "JPL ij=-k",
+    "active": "active",
+    "passive": "passive",
+    "parent-from-child": "child \u2192 parent",
+    "child-from-parent": "parent \u2192 child",
+    "row-major": "row by row",
+    "column-major": "column by column",
+}
+
+
+class ConventionBar(w.GridBox):
+    """One labelled control per convention field, laid out in a compact grid.
+
+    ``value`` (a dict field -> word) is the only state; observers of the owner watch it.
+    """
+
+    def __init__(self, fields=tuple(CHOICES), initial=None, **kwargs):
+        self.controls: dict[str, w.ValueWidget] = {}
+        cells = []
+        initial = initial or {}
+        for name in fields:
+            options = [(_WORDS.get(v, v), v) for v in CHOICES[name]]
+            if name == "sequence":
+                ctl = w.Dropdown(options=options, value=initial.get(name, CHOICES[name][-1]),
+                                 layout=w.Layout(width="110px"))
+            else:
+                ctl = w.ToggleButtons(options=options, value=initial.get(name, CHOICES[name][0]),
+                                      style=w.ToggleButtonsStyle(button_width="auto"))
+            ctl.add_class(f"posekit-setting-{name}")
+            ctl.description_allow_html = False
+            self.controls[name] = ctl
+            label = w.Label(_LABELS[name], layout=w.Layout(width="135px"))
+            cells.append(w.HBox([label, ctl], layout=w.Layout(align_items="center")))
+        super().__init__(cells, layout=w.Layout(grid_template_columns="repeat(auto-fill, minmax(380px, 1fr))",
+                                                grid_gap="2px 14px"), **kwargs)
+        self.add_class("posekit-convention-bar")
+
+    def settings(self) -> dict[str, str]:
+        return {k: c.value for k, c in self.controls.items()}
+
+    def set_settings(self, settings: dict[str, str]) -> None:
+        for k, v in settings.items():
+            if k in self.controls and self.controls[k].value != v:
+                self.controls[k].value = v
+
+
+class NumberRow(w.HBox):
+    """A label, a slider and an unbounded number box for one value.
+
+    The slider covers the usual range; the number box accepts any finite value (a value
+    outside the slider range leaves the slider at its end, the number is kept as typed).
+    """
+
+    def __init__(self, label: str, value: float, lo: float, hi: float, step: float, css: str):
+        self.label = w.HTML(label, layout=w.Layout(width="175px"))
+        self.slider = w.FloatSlider(value=min(max(value, lo), hi), min=lo, max=hi, step=step, readout=False,
+                                    continuous_update=True, layout=w.Layout(width="170px"))
+        self.slider.add_class(f"posekit-slider-{css}")
+        self.box = w.FloatText(value=value, step=None, layout=w.Layout(width="86px"))  # step=None: no rounding in the page
+        self.box.add_class(f"posekit-number-{css}")
+        super().__init__([self.label, self.slider, self.box], layout=w.Layout(align_items="center"))
+
+    def set_range(self, lo: float, hi: float, step: float) -> None:
+        s = self.slider
+        if lo > s.max:
+            s.max, s.min = hi, lo
+        else:
+            s.min, s.max = lo, hi
+        s.step = step

@@ -1,0 +1,295 @@
+"""The explorer: a slider per angle and per translation, every convention toggle, a live 3D frame.
+
+State lives in traitlets only (``angles``, ``translation``, ``convention``, ``keep``,
+``show_steps``, ``show_body``, ``palette``); the rotation shown is always recomputed
+from them by posekit's core, never stored a second time.
+"""
+
+from __future__ import annotations
+
+import math
+
+import ipywidgets as w
+import numpy as np
+import plotly.graph_objects as go
+import traitlets as t
+
+from ..core.convention import Convention
+from ..core.errors import PoseInputError
+from ..core.reading import as_convention, read_rotation, write_rotation
+from ..core.rotation import euler_of_quaternion, quaternion_of_matrix
+from ..core.steps import euler_steps
+from ..core.transforms import Pose, make_transform, write_transform
+from ..view.frames import body_trace, frame_figure, frame_points
+from ..view.readouts import gauge_html, matrix_html, numbers_html, panel_html, words_html
+from .controls import ConventionBar, NumberRow
+
+__all__ = ["Explorer"]
+
+_FRAME, _BODY, _STEP1, _STEP2 = 1, 2, 3, 4
+EXTENT = 1.9  # fixed scene range, so the view never rescales while a slider moves
+
+
+def _ranges(conv: Convention):
+    if conv.degrees:
+        return -180.0, 180.0, 1.0
+    return -math.pi, math.pi, 0.01
+
+
+class Explorer(w.VBox):
+    """Turn a frame with one slider per Euler angle under any convention and watch it move.
+
+    >>> ex = Explorer(angles=(30, -10, 0), convention="sequence=z-y-x unit=degrees")  # doctest: +SKIP
+    >>> ex.to_pose().rotation  # doctest: +SKIP
+    """
+
+    angles = t.Tuple(t.Float(), t.Float(), t.Float(), default_value=(0.0, 0.0, 0.0))
+    translation = t.Tuple(t.Float(), t.Float(), t.Float(), default_value=(0.0, 0.0, 0.0))
+    convention = t.Unicode("sequence=z-y-x unit=degrees")
+    keep = t.Unicode("numbers")
+    show_steps = t.Bool(True)
+    show_body = t.Bool(True)
+    palette = t.Unicode("standard")
+
+    def __init__(self, angles=(0.0, 0.0, 0.0), translation=(0.0, 0.0, 0.0),
+                 convention="sequence=z-y-x unit=degrees", keep: str = "numbers", show_steps: bool = True,
+                 show_body: bool = True, palette: str = "standard"):
+        conv = as_convention(convention)
+        if keep not in ("numbers", "orientation"):
+            raise PoseInputError(f"keep: got {keep!r}; accepted: 'numbers' (same numbers, new meaning) or "
+                                 "'orientation' (same orientation, new numbers)")
+        a = read_rotation(angles, "euler", conv)  # validates the numbers before anything is built
+        del a
+        self._syncing = False
+        lo, hi, step = _ranges(conv)
+        angle_values = [float(v) for v in np.asarray(angles, dtype=float)]
+        self.angle_rows = [NumberRow(self._angle_label(conv, i), angle_values[i], lo, hi, step, f"angle-{i + 1}")
+                           for i in range(3)]
+        tr = [float(v) for v in np.asarray(translation, dtype=float)]
+        self.translation_rows = [NumberRow(f"along parent {c}", tr[i], -1.0, 1.0, 0.05, f"move-{c}")
+                                 for i, c in enumerate("xyz")]
+        self.bar = ConventionBar(initial={f: getattr(conv, f) for f in conv.__dataclass_fields__})
+        self.keep_choice = w.RadioButtons(options=[("keep the numbers (see what they mean now)", "numbers"),
+                                                   ("keep the orientation (see the new numbers)", "orientation")],
+                                          value=keep, layout=w.Layout(width="auto"))
+        self.keep_choice.add_class("posekit-keep")
+        self.steps_box = w.Checkbox(value=show_steps, description="show the frame after each turn", indent=False)
+        self.body_box = w.Checkbox(value=show_body, description="show the dart body (nose +x, fin +z, notch +y)",
+                                   indent=False)
+        self.palette_choice = w.ToggleButtons(options=[("standard colours", "standard"),
+                                                       ("colour-blind safe", "colour-blind")], value=palette,
+                                              style=w.ToggleButtonsStyle(button_width="auto"))
+        self.words = w.HTML()
+        self.readouts = w.HTML(layout=w.Layout(width="100%"))
+        self.readouts.add_class("posekit-readouts")
+
+        rot = read_rotation(angle_values, "euler", conv)
+        steps = euler_steps(angle_values, conv).frames
+        fig = frame_figure(rot, tr, steps=steps, body=True, palette=palette, extent=EXTENT, height=520)
+        self.figure = go.FigureWidget(fig)
+        self.figure.add_class("posekit-figure")
+
+        left = w.VBox([w.HTML("<b>Angles</b> (as entered)")] + self.angle_rows +
+                      [w.HTML("<b>Position</b> of the child origin, parent coordinates")] + self.translation_rows +
+                      [w.HTML("<b>When a setting changes</b>"), self.keep_choice, self.steps_box, self.body_box,
+                       self.palette_choice],
+                      layout=w.Layout(width="450px", min_width="450px", padding="0 8px 0 0"))
+        top = w.VBox([w.HTML("<b>Convention</b> — every choice that gives the numbers their meaning"), self.bar,
+                      self.words])
+        super().__init__([top, w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]),
+                          self.readouts])
+        self.add_class("posekit-explorer")
+
+        with self.hold_trait_notifications():
+            self.convention = conv.to_text()
+            self.angles = tuple(angle_values)
+            self.translation = tuple(tr)
+            self.keep = keep
+            self.show_steps = show_steps
+            self.show_body = show_body
+            self.palette = palette
+
+        for i, row in enumerate(self.angle_rows):
+            row.slider.observe(lambda ch, i=i: self._set_angle(i, ch["new"], from_slider=True), "value")
+            row.box.observe(lambda ch, i=i: self._set_angle(i, ch["new"], from_slider=False), "value")
+        for i, row in enumerate(self.translation_rows):
+            row.slider.observe(lambda ch, i=i: self._set_move(i, ch["new"], True), "value")
+            row.box.observe(lambda ch, i=i: self._set_move(i, ch["new"], False), "value")
+        for ctl in self.bar.controls.values():
+            ctl.observe(self._on_setting, "value")
+        self.keep_choice.observe(lambda ch: setattr(self, "keep", ch["new"]), "value")
+        self.steps_box.observe(lambda ch: setattr(self, "show_steps", ch["new"]), "value")
+        self.body_box.observe(lambda ch: setattr(self, "show_body", ch["new"]), "value")
+        self.palette_choice.observe(lambda ch: setattr(self, "palette", ch["new"]), "value")
+        self.observe(self._on_state, ["angles", "translation", "convention", "show_steps", "show_body"])
+        self.observe(self._on_palette, ["palette"])
+        self._refresh()
+
+    # --- building from and exporting to posekit values ---------------------------------
+    @classmethod
+    def from_pose(cls, pose, convention="sequence=z-y-x unit=degrees", **options) -> "Explorer":
+        """Build from a :class:`~posekit.Pose`, a 4x4 transform or a 3x3 rotation."""
+        conv = as_convention(convention)
+        m = pose.matrix if isinstance(pose, Pose) else np.asarray(pose, dtype=float)
+        if m.shape == (3, 3):
+            m = make_transform(m, np.zeros(3))
+        pose = Pose(m)
+        angles = write_rotation(pose.rotation, "euler", conv)
+        return cls(angles=tuple(angles), translation=tuple(pose.translation), convention=conv, **options)
+
+    def convention_value(self) -> Convention:
+        return Convention.parse(self.convention)
+
+    def rotation(self) -> np.ndarray:
+        """The canonical rotation ``(3, 3)`` the controls describe."""
+        return read_rotation(self.angles, "euler", self.convention_value())
+
+    def to_pose(self) -> Pose:
+        """The canonical parent-from-child :class:`~posekit.Pose` the controls describe."""
+        return Pose(make_transform(self.rotation(), np.asarray(self.translation, dtype=float)))
+
+    # --- observers ----------------------------------------------------------------------
+    @staticmethod
+    def _angle_label(conv: Convention, i: int) -> str:
+        axis = conv.axes_letters[i]
+        where = "new " if conv.intrinsic and i else ("fixed " if not conv.intrinsic else "")
+        unit = "deg" if conv.degrees else "rad"
+        return f"turn {i + 1} about {where}{axis} <span style='color:#888'>{unit}</span>"
+
+    def _set_angle(self, i: int, value: float, from_slider: bool) -> None:
+        if self._syncing:
+            return
+        a = list(self.angles)
+        if from_slider and self._is_snap(self.angle_rows[i].slider, a[i], value):
+            return
+        a[i] = float(value)
+        self.angles = tuple(a)
+
+    def _set_move(self, i: int, value: float, from_slider: bool) -> None:
+        if self._syncing:
+            return
+        m = list(self.translation)
+        if from_slider and self._is_snap(self.translation_rows[i].slider, m[i], value):
+            return
+        m[i] = float(value)
+        self.translation = tuple(m)
+
+    @staticmethod
+    def _is_snap(slider, current: float, value: float) -> bool:
+        """True when the page's slider only rounded ``current`` to its step grid or range.
+
+        The page snaps a slider to its step after the kernel sets an off-grid value
+        and sends the snapped value back; that echo must not overwrite the exact number.
+        """
+        clamped = min(max(current, slider.min), slider.max)
+        return abs(value - clamped) < 0.5 * slider.step + 1e-12
+
+    def _on_setting(self, change) -> None:
+        if self._syncing:
+            return
+        old = Convention.parse(self.convention)
+        new = old.changed(**self.bar.settings())
+        if new == old:
+            return
+        if self.keep == "orientation":
+            rot = read_rotation(self.angles, "euler", old)
+            angles = tuple(float(v) for v in write_rotation(rot, "euler", new, check=False))
+            with self.hold_trait_notifications():
+                self.convention = new.to_text()
+                self.angles = angles
+        else:
+            self.convention = new.to_text()
+
+    def _on_palette(self, change) -> None:
+        conv = self.convention_value()
+        fig = frame_figure(self.rotation(), self.translation, steps=euler_steps(self.angles, conv).frames, body=True,
+                           palette=self.palette, extent=EXTENT, height=520)
+        with self.figure.batch_update():
+            for k, trace in enumerate(fig.data):
+                self.figure.data[k].line = trace.line
+                self.figure.data[k].marker = trace.marker
+                self.figure.data[k].textfont = trace.textfont
+        self._refresh()
+
+    def _on_state(self, change) -> None:
+        self._refresh()
+
+    # --- drawing ------------------------------------------------------------------------
+    def _sync_controls(self, conv: Convention) -> None:
+        self._syncing = True
+        try:
+            lo, hi, step = _ranges(conv)
+            for i, row in enumerate(self.angle_rows):
+                row.set_range(lo, hi, step)
+                row.label.value = self._angle_label(conv, i)
+                v = self.angles[i]
+                sv = min(max(v, lo), hi)
+                if row.slider.value != sv:
+                    row.slider.value = sv
+                if row.box.value != v:
+                    row.box.value = v
+            for i, row in enumerate(self.translation_rows):
+                v = self.translation[i]
+                if row.slider.value != min(max(v, row.slider.min), row.slider.max):
+                    row.slider.value = min(max(v, row.slider.min), row.slider.max)
+                if row.box.value != v:
+                    row.box.value = v
+            self.bar.set_settings({f: getattr(conv, f) for f in conv.__dataclass_fields__})
+        finally:
+            self._syncing = False
+
+    def _refresh(self) -> None:
+        conv = self.convention_value()
+        self._sync_controls(conv)
+        rot = read_rotation(self.angles, "euler", conv)
+        origin = np.asarray(self.translation, dtype=float)
+        steps = euler_steps(self.angles, conv)
+        fig = self.figure
+        with fig.batch_update():
+            fx, fy, fz = frame_points(rot, origin)
+            fig.data[_FRAME].update(x=fx, y=fy, z=fz)
+            body = body_trace(rot, origin)
+            fig.data[_BODY].update(x=body.x, y=body.y, z=body.z, visible=self.show_body)
+            for k, idx in ((1, _STEP1), (2, _STEP2)):
+                sx, sy, sz = frame_points(steps.frames[k], origin, 0.8)
+                fig.data[idx].update(x=sx, y=sy, z=sz, visible=self.show_steps)
+        self.words.value = words_html("In words: " + conv.describe() + ".")
+        self.readouts.value = self._readout_html(conv, rot, origin, steps)
+
+    def _readout_html(self, conv, rot, origin, steps) -> str:
+        unit = "deg" if conv.degrees else "rad"
+        transform = make_transform(rot, origin)
+        written = write_transform(transform, "matrix", conv)
+        flat = write_transform(transform, "matrix", conv, flat=True)
+        maps = "child → parent" if conv.direction == "parent-from-child" else "parent → child"
+        mat = panel_html(f"Homogeneous matrix as written ({maps})",
+                         matrix_html(written) + words_html(f"flat, {conv.layout}: " +
+                                                           ", ".join(f"{v:.6g}" for v in flat)))
+        q = write_rotation(rot, "quaternion", conv, check=False)
+        labels = ("w", "x", "y", "z") if conv.scalar == "first" else ("x", "y", "z", "w")
+        quat = panel_html(f"Quaternion ({conv.algebra.upper() if conv.algebra == 'jpl' else 'Hamilton'}, "
+                          f"scalar {conv.scalar})", numbers_html(labels, q, 6) +
+                          words_html("−q names the same rotation"))
+        back = write_rotation(rot, "euler", conv, check=False)
+        same = bool(np.allclose(back, self.angles, atol=1e-9))
+        note = "read-back equals the entry" if same else "read-back differs from the entry, same orientation"
+        letters = conv.axes_letters
+        euler = panel_html(f"Euler angles ({unit})",
+                           numbers_html([f"{i + 1}: {letters[i]}" for i in range(3)], self.angles, 4)
+                           + numbers_html(["read back 1", "2", "3"], back, 4) + words_html(note))
+        _, dist = euler_of_quaternion(quaternion_of_matrix(rot), letters, conv.intrinsic)
+        d = float(dist)
+        scale = 180.0 / math.pi if conv.degrees else 1.0
+        if d < 1e-9:
+            lock = ("AT THE POLE: gimbal lock; only the sum or the difference of the first and third angles is "
+                    "fixed, the read-back sets the third angle to 0")
+        elif d * 180.0 / math.pi < 10.0:
+            lock = "near the pole: small matrix changes move the outer angles a lot"
+        else:
+            lock = "far from the pole"
+        gauge = panel_html("Gimbal-lock gauge", gauge_html(math.sin(min(d, math.pi / 2)),
+                                                            f"distance to pole {d * scale:.4g} {unit}; sin",
+                                                            note=lock))
+        step_words = panel_html("Turn by turn", words_html("; ".join(steps.words)))
+        return ("<div style='display:flex;flex-wrap:wrap;gap:8px'>" + mat + quat + euler + gauge + step_words
+                + "</div>")
