@@ -90,7 +90,7 @@ FINDINGS = {
     "rate_above_limit": "the turn rate from the previous row is above the rate limit",
 }
 
-_CHUNK = 1 << 15
+_CHUNK = 1 << 14
 
 
 @dataclass(frozen=True)
@@ -317,7 +317,7 @@ def _numeric(value, name: str) -> np.ndarray:
 def _kind_of(values: np.ndarray, kind: str | None) -> str:
     shape = values.shape
     by_shape = {(4,): "quaternion", (3,): "euler", (9,): "matrix", (3, 3): "matrix"}
-    guess = by_shape.get(shape[2:] if values.ndim == 3 else shape[1:]) if values.ndim in (2, 3) else None
+    guess = by_shape.get(shape[1:]) if values.ndim in (2, 3) else None
     if kind is None:
         if guess is None:
             raise WrongShapeError(f"pose values: got shape {shape}; expected (N, 4) quaternions, (N, 3) Euler "
@@ -463,21 +463,20 @@ def check_trajectory(times, values, kind: str | None = None, convention=None, *,
     if m == 0:
         raise EmptyTrajectoryError(f"trajectory: all {n} rows were rejected (first: {rejected[0].words() if rejected else 'see input'}); "
                                    "no rotation left to check")
-    row_of = (lambda i: i) if all_used else (lambda i: pos[i])  # noqa: E731
 
     # --- timestamps -------------------------------------------------------------------------------
     tu = t if all_used else t[pos]
     dt = np.diff(tu)
-    rows_next = np.arange(1, m) if all_used else pos[1:]
-    backwards = rows_next[dt < 0]
-    duplicates = rows_next[dt == 0]
-    positive = dt[dt > 0]
+    next_row = (lambda mask: np.flatnonzero(mask) + 1) if all_used else (lambda mask: pos[1:][mask])  # noqa: E731
+    backwards = next_row(dt < 0)
+    duplicates = next_row(dt == 0)
     if gap_limit is None:
+        positive = dt[dt > 0]
         gap_used = gap_factor * float(np.median(positive)) if positive.size else np.inf
+        del positive
     else:
         gap_used = gap_limit
-    gaps = rows_next[dt > gap_used]
-    del positive
+    gaps = next_row(dt > gap_used)
 
     # --- chunked scan -----------------------------------------------------------------------------
     half = 180.0 if conv.degrees else np.pi
@@ -560,7 +559,9 @@ def check_trajectory(times, values, kind: str | None = None, convention=None, *,
     F["euler_wraps"] = _finding("euler_wraps", cat(wraps), t)
     F["near_gimbal_lock"] = _finding("near_gimbal_lock", np.flatnonzero(pole < lock_margin), t)
     if kind == "quaternion":
-        drift = np.flatnonzero(used & (np.abs(norm - 1.0) > norm_tolerance))
+        drift = np.concatenate([np.flatnonzero(used[lo:lo + _CHUNK] & (np.abs(norm[lo:lo + _CHUNK] - 1.0) >
+                                                                        norm_tolerance)) + lo
+                                for lo in range(0, n, _CHUNK)])
         F["quaternion_norm_drift"] = _finding("quaternion_norm_drift", drift, t)
     else:
         F["quaternion_norm_drift"] = _finding("quaternion_norm_drift", [], t, False, "only for quaternion input")
@@ -618,7 +619,7 @@ def _motion_prior(vals, kind, conv, pos, m, vertical, share_needed, world_sum, b
         j = int(np.argmax(share))
         if j != iv and share[j] >= share_needed:
             suggestions.append(f"the {name} frame turns about its {'xyz'[j]} axis ({share[j]:.2f} of the turning): "
-                               f"swapping its {'xyz'[j]} and {vertical} axes (e.g. a {'xyz'[j]}-up frame) "
+                               f"swapping its {'xyz'[j]} and {vertical} axes (e.g. {'an' if j == 0 else 'a'} {'xyz'[j]}-up frame) "
                                "would make the turn axis vertical")
     # alternative readings on an even subsample of the used rows
     take = np.linspace(0, m - 1, min(m, 20001)).astype(np.int64)
@@ -650,11 +651,17 @@ def _motion_prior(vals, kind, conv, pos, m, vertical, share_needed, world_sum, b
             continue
         ws, bs, _ = _shares_of(rr)
         candidates.append((_difference(conv, alt), float(ws[iv]), float(bs[iv])))
-    candidates.sort(key=lambda c: -min(c[1], c[2]))
+    # best vertical share first (to 2 digits); on a tie, Tait-Bryan before proper Euler readings, since a
+    # small middle angle of a proper Euler sequence would put a level vehicle at gimbal lock
+    proper = {text: alt.is_proper_euler for text, alt in ((_difference(conv, a), a) for a in alts)}
+    candidates.sort(key=lambda c: (-round(min(c[1], c[2]), 2), proper.get(c[0], False), -min(c[1], c[2])))
     good = [c for c in candidates if min(c[1], c[2]) >= share_needed]
-    for text, w, b in good[:3]:
-        suggestions.append(f"reading the numbers with {text} instead makes the turn axis vertical "
-                           f"(world share {w:.2f}, body share {b:.2f})")
+    if good:
+        shown = ", ".join(f"{text} (world share {w:.2f}, body share {b:.2f})" for text, w, b in good[:8])
+        more = f" and {len(good) - 8} more" if len(good) > 8 else ""
+        suggestions.append(f"{len(good)} other reading(s) of the same numbers make the turn axis vertical, best "
+                           f"first: {shown}{more}; small tilts make several readings fit, so confirm with a "
+                           "known pose")
     return MotionPrior(vertical, share_needed, total_turn, world, body, False, tuple(suggestions), tuple(candidates))
 
 
