@@ -371,9 +371,7 @@ def _rows_of(values, kind, conv, lo, hi, pos):
 def check_trajectory(times, values, kind: str | None = None, convention=None, *, rate_limit: float | None = None,
                      gap_limit: float | None = None, gap_factor: float = 5.0, norm_tolerance: float = 1e-3,
                      matrix_tolerance: float = 1e-6, lock_margin: float | None = None,
-                     ground_vehicle: bool = False, vertical: str = "z", share_needed: float = 0.8,
-                     _known: tuple[RejectedRow, ...] = (), _mapping: ColumnMapping | None = None,
-                     _lines=None) -> TrajectoryReport:
+                     ground_vehicle: bool = False, vertical: str = "z", share_needed: float = 0.8) -> TrajectoryReport:
     """Scan a trajectory: ``times (N,)`` and ``values`` (N, 4) / (N, 3) / (N, 3, 3) / (N, 9) -> :class:`TrajectoryReport`.
 
     ``kind`` is inferred from the shape when None.  Angles and rates are in the
@@ -387,6 +385,15 @@ def check_trajectory(times, values, kind: str | None = None, convention=None, *,
     >>> check_trajectory(t, q).findings["quaternion_sign_flips"].rows.tolist()
     [1, 2]
     """
+    return _scan(times, values, kind, convention, rate_limit=rate_limit, gap_limit=gap_limit, gap_factor=gap_factor,
+                 norm_tolerance=norm_tolerance, matrix_tolerance=matrix_tolerance, lock_margin=lock_margin,
+                 ground_vehicle=ground_vehicle, vertical=vertical, share_needed=share_needed)
+
+
+def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, gap_factor=5.0, norm_tolerance=1e-3,
+          matrix_tolerance=1e-6, lock_margin=None, ground_vehicle=False, vertical="z", share_needed=0.8,
+          _known: tuple[RejectedRow, ...] = (), _mapping: ColumnMapping | None = None, _lines=None):
+    """:func:`check_trajectory`, plus the rows a CSV reader already rejected, its mapping and line numbers."""
     conv = as_convention(convention)
     scale = np.pi / 180.0 if conv.degrees else 1.0
     unit = "degrees" if conv.degrees else "radians"
@@ -747,11 +754,11 @@ def _infer(names, kind, conv):
             idx = [rpy[about[a]] for a in conv.axes_letters]
             found["euler"] = (idx, f"Euler columns {', '.join(names[i] for i in idx)} placed in the order of "
                               f"sequence {conv.sequence} (roll about x, pitch about y, yaw about z)")
-            units = {("deg" in norm[i]) for i in idx} | {("rad" in norm[i] and "deg" not in norm[i]) and "rad"
-                                                         for i in idx}
-            if True in units and not conv.degrees:
+            says_degrees = any("deg" in norm[i] for i in idx)
+            says_radians = any("rad" in norm[i] and "deg" not in norm[i] for i in idx)
+            if says_degrees and not conv.degrees:
                 notes.append("note: the Euler column names mention degrees but the convention says radians")
-            if "rad" in units and conv.degrees:
+            if says_radians and conv.degrees:
                 notes.append("note: the Euler column names mention radians but the convention says degrees")
     if kind is not None:
         if kind not in found:
@@ -927,5 +934,12 @@ def check_trajectory_csv(source, *, kind: str | None = None, convention=None, ti
     conv = as_convention(convention)
     table = read_trajectory_csv(source, kind=kind, convention=conv, time_column=time_column,
                                 value_columns=value_columns, delimiter=delimiter)
-    return check_trajectory(table.times, table.values, table.kind, conv, _known=table.rejected,
-                            _mapping=table.mapping, _lines=table.lines, **checks)
+    unknown = set(checks) - _CHECK_OPTIONS
+    if unknown:
+        raise TrajectoryInputError(f"unknown option(s) {sorted(unknown)}; accepted: {', '.join(sorted(_CHECK_OPTIONS))}")
+    return _scan(table.times, table.values, table.kind, conv, _known=table.rejected, _mapping=table.mapping,
+                 _lines=table.lines, **checks)
+
+
+_CHECK_OPTIONS = {"rate_limit", "gap_limit", "gap_factor", "norm_tolerance", "matrix_tolerance", "lock_margin",
+                  "ground_vehicle", "vertical", "share_needed"}
