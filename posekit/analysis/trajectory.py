@@ -348,19 +348,24 @@ def _vee_angle(a):
     return np.arctan2(s, c), v, s
 
 
-def _axis_shares(rot_prev, rot_next):
-    """Turn-weighted squared-axis sums (world (3,), body (3,)) and the total turn of consecutive rotations."""
-    world = rot_next @ np.swapaxes(rot_prev, -1, -2)
-    body = np.swapaxes(rot_prev, -1, -2) @ rot_next
-    out = []
-    total = 0.0
-    for m in (world, body):
-        ang, v, s = _vee_angle(m)
-        ok = s > 1e-12
-        w = np.where(ok, ang / np.where(ok, s * s, 1.0), 0.0)
-        out.append(np.sum(v * v * w[:, None], axis=0))
-        total = float(np.sum(ang[ok]))
-    return out[0], out[1], total
+def _axis_shares(rot_prev, ang, v_body, sin_ang):
+    """Turn-weighted squared-axis sums (world (3,), body (3,)) and the total turn of row-to-row turns.
+
+    ``ang``, ``v_body = sin(ang) * axis`` and ``sin_ang`` describe the body-frame turns
+    ``R_{k-1}^T R_k``; the world-frame turn ``R_k R_{k-1}^T = R_{k-1} (R_{k-1}^T R_k) R_{k-1}^T``
+    has the axis ``R_{k-1} axis`` (conjugation; common practice).
+    """
+    ok = sin_ang > 1e-12
+    w = np.where(ok, ang / np.where(ok, sin_ang * sin_ang, 1.0), 0.0)
+    v_world = np.einsum("nij,nj->ni", rot_prev, v_body)
+    return (np.sum(v_world * v_world * w[:, None], axis=0), np.sum(v_body * v_body * w[:, None], axis=0),
+            float(np.sum(ang[ok])))
+
+
+def _turns(rots):
+    """Body-frame row-to-row turns of ``(n, 3, 3)`` rotations: (previous rotations, angle, sin*axis, sin)."""
+    ang, v, s = _vee_angle(np.swapaxes(rots[:-1], -1, -2) @ rots[1:])
+    return rots[:-1], ang, v, s
 
 
 def _rows_of(values, kind, conv, lo, hi, pos):
@@ -529,14 +534,14 @@ def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, g
         # turn rate
         r_ext = r if prev_rot is None else np.concatenate([prev_rot[None], r])
         if r_ext.shape[0] > 1:
-            ang, _, _ = _vee_angle(np.swapaxes(r_ext[:-1], -1, -2) @ r_ext[1:])
+            ang, v_body, sin_ang = _vee_angle(np.swapaxes(r_ext[:-1], -1, -2) @ r_ext[1:])
             first = lo if prev_rot is None else lo - 1
             step_dt = dt[first:hi - 1]
             with np.errstate(divide="ignore", invalid="ignore"):
                 rr = np.where(step_dt > 0, ang / np.where(step_dt > 0, step_dt, 1.0), np.nan) / scale
             rate[rows[1:] if prev_rot is None else rows] = rr
             if ground_vehicle:
-                ws, bs, tt = _axis_shares(r_ext[:-1], r_ext[1:])
+                ws, bs, tt = _axis_shares(r_ext[:-1], ang, v_body, sin_ang)
                 world_sum += ws
                 body_sum += bs
                 total_turn += tt
@@ -606,7 +611,7 @@ def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, g
 
 
 def _shares_of(rots):
-    ws, bs, total = _axis_shares(rots[:-1], rots[1:])
+    ws, bs, total = _axis_shares(*_turns(rots))
     tw, tb = float(np.sum(ws)), float(np.sum(bs))
     return (ws / tw if tw > 0 else ws), (bs / tb if tb > 0 else bs), total
 
