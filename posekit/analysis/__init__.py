@@ -1,5 +1,20 @@
-"""Analysis layer (numpy + scipy): bridges, singularity, diagnosis, trajectories, frame graphs."""
+"""Analysis layer (numpy + scipy): bridges, singularity, sweeps, trajectory checks."""
 
 from .scipy_bridge import from_scipy_rotation, from_scipy_transform, to_scipy_rotation, to_scipy_transform
+from .singularity import (DEFAULT_POLE_TOLERANCE, FRAMES, EulerSolutions, LockGauge, PoleAnalysis, Sensitivity,
+                          analyse_pole, euler_rate_jacobian, euler_solutions, lock_gauge, pole_distance,
+                          readback_sensitivity)
+from .sweeps import DEFAULT_JUMP_THRESHOLD, Sweep, sign_continuous, sweep_between, sweep_one_angle, sweep_rotations
+from .trajectory import (FINDINGS, TRAJECTORY_KINDS, ColumnMapping, EmptyTrajectoryError, Finding,
+                         MissingColumnError, MotionPrior, RejectedRow, Span, TrajectoryInputError, TrajectoryReport,
+                         TrajectoryTable, check_trajectory, check_trajectory_csv, read_trajectory_csv)
 
-__all__ = ["to_scipy_rotation", "from_scipy_rotation", "to_scipy_transform", "from_scipy_transform"]
+__all__ = [
+    "to_scipy_rotation", "from_scipy_rotation", "to_scipy_transform", "from_scipy_transform",
+    "DEFAULT_POLE_TOLERANCE", "FRAMES", "EulerSolutions", "LockGauge", "PoleAnalysis", "Sensitivity",
+    "analyse_pole", "euler_rate_jacobian", "euler_solutions", "lock_gauge", "pole_distance", "readback_sensitivity",
+    "DEFAULT_JUMP_THRESHOLD", "Sweep", "sign_continuous", "sweep_between", "sweep_one_angle", "sweep_rotations",
+    "FINDINGS", "TRAJECTORY_KINDS", "ColumnMapping", "EmptyTrajectoryError", "Finding", "MissingColumnError",
+    "MotionPrior", "RejectedRow", "Span", "TrajectoryInputError", "TrajectoryReport", "TrajectoryTable",
+    "check_trajectory", "check_trajectory_csv", "read_trajectory_csv",
+]
