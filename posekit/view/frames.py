@@ -22,6 +22,7 @@ __all__ = [
     "PALETTES",
     "frame_points",
     "frame_trace",
+    "body_points",
     "body_trace",
     "frame_figure",
     "planar_figure",
@@ -105,12 +106,17 @@ _BODY_VERTICES = np.array([
 _BODY_FACES = np.array([[0, 1, 3], [0, 3, 2], [5, 4, 3], [6, 7, 8]])
 
 
+def body_points(rotation, origin=None, scale: float = 1.0) -> np.ndarray:
+    """Vertices ``(9, 3)`` of the dart body placed by ``rotation (3, 3)`` and ``origin (3,)``."""
+    r = checked_matrix(rotation)
+    o = np.zeros(3) if origin is None else as_numbers(origin, "origin", (3,))
+    return (scale * _BODY_VERTICES) @ r.T + o
+
+
 def body_trace(rotation, origin=None, *, scale: float = 1.0, colour: str = "#7f7f7f",
                name: str = "body", opacity: float = 0.55) -> go.Mesh3d:
     """A dart-shaped body attached to a frame (forward +x, fin up +z, notch on the left +y)."""
-    r = checked_matrix(rotation)
-    o = np.zeros(3) if origin is None else as_numbers(origin, "origin", (3,))
-    v = (scale * _BODY_VERTICES) @ r.T + o
+    v = body_points(rotation, origin, scale)
     i, j, k = _BODY_FACES.T
     return go.Mesh3d(x=v[:, 0], y=v[:, 1], z=v[:, 2], i=i, j=j, k=k, color=colour, opacity=opacity,
                      name=name, flatshading=True, hoverinfo="name", showlegend=True)

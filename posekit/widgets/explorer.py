@@ -17,11 +17,11 @@ import traitlets as t
 from ..core.convention import Convention
 from ..core.errors import PoseInputError
 from ..core.reading import as_convention, read_rotation, write_rotation
-from ..core.rotation import euler_of_quaternion, quaternion_of_matrix
+from ..analysis.singularity import euler_solutions, lock_gauge
 from ..core.steps import euler_steps
 from ..core.transforms import Pose, make_transform, write_transform
-from ..view.frames import body_trace, frame_figure, frame_points
-from ..view.readouts import gauge_html, matrix_html, numbers_html, panel_html, words_html
+from ..view.frames import body_points, frame_figure, frame_points
+from ..view.readouts import STYLE_SHEET, gauge_html, matrix_html, numbers_html, panel_html, row_html, words_html
 from .controls import ConventionBar, NumberRow
 
 __all__ = ["Explorer"]
@@ -96,8 +96,8 @@ class Explorer(w.VBox):
                       layout=w.Layout(width="450px", min_width="450px", padding="0 8px 0 0"))
         top = w.VBox([w.HTML("<b>Convention</b> — every choice that gives the numbers their meaning"), self.bar,
                       self.words])
-        super().__init__([top, w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]),
-                          self.readouts])
+        super().__init__([w.HTML(STYLE_SHEET), top,
+                          w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]), self.readouts])
         self.add_class("posekit-explorer")
 
         with self.hold_trait_notifications():
@@ -244,23 +244,24 @@ class Explorer(w.VBox):
         rot = read_rotation(self.angles, "euler", conv)
         origin = np.asarray(self.translation, dtype=float)
         steps = euler_steps(self.angles, conv)
-        fig = self.figure
-        with fig.batch_update():
-            fx, fy, fz = frame_points(rot, origin)
-            fig.data[_FRAME].update(x=fx, y=fy, z=fz)
-            body = body_trace(rot, origin)
-            fig.data[_BODY].update(x=body.x, y=body.y, z=body.z, visible=self.show_body)
-            for k, idx in ((1, _STEP1), (2, _STEP2)):
-                sx, sy, sz = frame_points(steps.frames[k], origin, 0.8)
-                fig.data[idx].update(x=sx, y=sy, z=sz, visible=self.show_steps)
+        fx, fy, fz = frame_points(rot, origin)
+        body = body_points(rot, origin)
+        xs, ys, zs = [fx, body[:, 0].tolist()], [fy, body[:, 1].tolist()], [fz, body[:, 2].tolist()]
+        for k in (1, 2):
+            sx, sy, sz = frame_points(steps.frames[k], origin, 0.8)
+            xs.append(sx), ys.append(sy), zs.append(sz)
+        # one restyle message with only the changed trace data (no figure rebuild)
+        self.figure.plotly_restyle({"x": xs, "y": ys, "z": zs,
+                                    "visible": [True, self.show_body, self.show_steps, self.show_steps]},
+                                   trace_indexes=[_FRAME, _BODY, _STEP1, _STEP2])
         self.words.value = words_html("In words: " + conv.describe() + ".")
         self.readouts.value = self._readout_html(conv, rot, origin, steps)
 
     def _readout_html(self, conv, rot, origin, steps) -> str:
         unit = "deg" if conv.degrees else "rad"
         transform = make_transform(rot, origin)
-        written = write_transform(transform, "matrix", conv)
         flat = write_transform(transform, "matrix", conv, flat=True)
+        written = flat.reshape(4, 4) if conv.layout == "row-major" else flat.reshape(4, 4).T
         maps = "child → parent" if conv.direction == "parent-from-child" else "parent → child"
         mat = panel_html(f"Homogeneous matrix as written ({maps})",
                          matrix_html(written) + words_html(f"flat, {conv.layout}: " +
@@ -277,19 +278,18 @@ class Explorer(w.VBox):
         euler = panel_html(f"Euler angles ({unit})",
                            numbers_html([f"{i + 1}: {letters[i]}" for i in range(3)], self.angles, 4)
                            + numbers_html(["read back 1", "2", "3"], back, 4) + words_html(note))
-        _, dist = euler_of_quaternion(quaternion_of_matrix(rot), letters, conv.intrinsic)
-        d = float(dist)
-        scale = 180.0 / math.pi if conv.degrees else 1.0
-        if d < 1e-9:
-            lock = ("AT THE POLE: gimbal lock; only the sum or the difference of the first and third angles is "
-                    "fixed, the read-back sets the third angle to 0")
-        elif d * 180.0 / math.pi < 10.0:
-            lock = "near the pole: small matrix changes move the outer angles a lot"
+        gauge = lock_gauge(rot, conv)
+        solutions = euler_solutions(rot, conv)
+        d = float(solutions.distance)
+        if bool(solutions.at_pole):
+            lock = "GIMBAL LOCK. " + solutions.words()
+        elif d * (1.0 if conv.degrees else 180.0 / math.pi) < 10.0:
+            lock = ("near the pole: small changes of the orientation move the outer angles a lot. "
+                    + solutions.words())
         else:
             lock = "far from the pole"
-        gauge = panel_html("Gimbal-lock gauge", gauge_html(math.sin(min(d, math.pi / 2)),
-                                                            f"distance to pole {d * scale:.4g} {unit}; sin",
-                                                            note=lock))
+        gauge_panel = panel_html("Gimbal-lock gauge", gauge_html(
+            float(gauge.gauge), f"smallest singular value of the angle-rate Jacobian "
+            f"(pole {d:.4g} {unit} away)", note=lock))
         step_words = panel_html("Turn by turn", words_html("; ".join(steps.words)))
-        return ("<div style='display:flex;flex-wrap:wrap;gap:8px'>" + mat + quat + euler + gauge + step_words
-                + "</div>")
+        return row_html(mat, quat, euler, gauge_panel, step_words)

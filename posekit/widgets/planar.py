@@ -16,7 +16,7 @@ import traitlets as t
 from ..core.errors import PoseInputError
 from ..core.transforms import checked_transform, invert_transform, make_planar, planar_parts
 from ..view.frames import planar_figure
-from ..view.readouts import matrix_html, panel_html, words_html
+from ..view.readouts import STYLE_SHEET, matrix_html, panel_html, words_html
 from .controls import NumberRow
 
 __all__ = ["PlanarExplorer"]
@@ -61,7 +61,7 @@ class PlanarExplorer(w.VBox):
         left = w.VBox([w.HTML("<b>Frame in the plane</b>")] + list(self.rows.values()) +
                       [w.HTML("<b>Heading unit</b>"), self.unit_choice, w.HTML("<b>Matrix direction</b>"),
                        self.direction_choice, self.readouts], layout=w.Layout(width="470px", min_width="470px"))
-        super().__init__([w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))])])
+        super().__init__([w.HTML(STYLE_SHEET), w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))])])
         self.add_class("posekit-planar")
         with self.hold_trait_notifications():
             self.x, self.y, self.heading, self.unit, self.direction = float(x), float(y), float(heading), unit, direction
