@@ -1,5 +1,6 @@
 """Widget layer: ipywidgets glue over posekit's analysis and view layers. No math of its own."""
 
 from .explorer import Explorer
+from .planar import PlanarExplorer
 
-__all__ = ["Explorer"]
+__all__ = ["Explorer", "PlanarExplorer"]

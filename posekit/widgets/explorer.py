@@ -22,7 +22,9 @@ from ..core.steps import euler_steps
 from ..core.transforms import Pose, make_transform, write_transform
 from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET, gauge_html, matrix_html, numbers_html, panel_html, row_html, words_html
+from ..analysis.state import NamedPose, State, StateFileError, environment_versions
 from .controls import ConventionBar, NumberRow
+from .sharing import SharePanel, python_call
 
 __all__ = ["Explorer"]
 
@@ -97,7 +99,8 @@ class Explorer(w.VBox):
         top = w.VBox([w.HTML("<b>Convention</b> — every choice that gives the numbers their meaning"), self.bar,
                       self.words])
         super().__init__([w.HTML(STYLE_SHEET), top,
-                          w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]), self.readouts])
+                          w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]), self.readouts,
+                          SharePanel(self, "explorer-state")])
         self.add_class("posekit-explorer")
 
         with self.hold_trait_notifications():
@@ -147,6 +150,30 @@ class Explorer(w.VBox):
     def to_pose(self) -> Pose:
         """The canonical parent-from-child :class:`~posekit.Pose` the controls describe."""
         return Pose(make_transform(self.rotation(), np.asarray(self.translation, dtype=float)))
+
+    # --- sharing ------------------------------------------------------------------------
+    def _settings(self) -> dict:
+        return {"angles": tuple(float(v) for v in self.angles),
+                "translation": tuple(float(v) for v in self.translation),
+                "convention": self.convention, "keep": self.keep, "show_steps": bool(self.show_steps),
+                "show_body": bool(self.show_body), "palette": self.palette}
+
+    def to_state(self, notes: str = "") -> State:
+        """Everything this explorer shows, as a posekit :class:`~posekit.analysis.state.State`."""
+        pose = NamedPose("explorer pose", self.to_pose().matrix, self.convention_value())
+        return State("explorer", self._settings(), (pose,), (), notes)
+
+    @classmethod
+    def from_state(cls, state: State) -> "Explorer":
+        """Rebuild an explorer from a state (e.g. ``load_state("bug.json")``)."""
+        if state.widget != "explorer":
+            raise StateFileError(f"state is for widget {state.widget!r}, not 'explorer'")
+        s = dict(state.settings)
+        return cls(**s)
+
+    def code_cell(self) -> str:
+        """A notebook cell that rebuilds exactly this explorer."""
+        return python_call("posekit.widgets", "Explorer", self._settings(), environment_versions())
 
     # --- observers ----------------------------------------------------------------------
     @staticmethod

@@ -17,7 +17,9 @@ from ..core.errors import PoseInputError
 from ..core.transforms import checked_transform, invert_transform, make_planar, planar_parts
 from ..view.frames import planar_figure
 from ..view.readouts import STYLE_SHEET, matrix_html, panel_html, words_html
+from ..analysis.state import NamedPose, State, StateFileError, environment_versions
 from .controls import NumberRow
+from .sharing import SharePanel, python_call
 
 __all__ = ["PlanarExplorer"]
 
@@ -61,7 +63,8 @@ class PlanarExplorer(w.VBox):
         left = w.VBox([w.HTML("<b>Frame in the plane</b>")] + list(self.rows.values()) +
                       [w.HTML("<b>Heading unit</b>"), self.unit_choice, w.HTML("<b>Matrix direction</b>"),
                        self.direction_choice, self.readouts], layout=w.Layout(width="470px", min_width="470px"))
-        super().__init__([w.HTML(STYLE_SHEET), w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))])])
+        super().__init__([w.HTML(STYLE_SHEET), w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]),
+                          SharePanel(self, "planar-state")])
         self.add_class("posekit-planar")
         with self.hold_trait_notifications():
             self.x, self.y, self.heading, self.unit, self.direction = float(x), float(y), float(heading), unit, direction
@@ -82,6 +85,28 @@ class PlanarExplorer(w.VBox):
     def transform(self) -> np.ndarray:
         """The canonical parent-from-child SE(2) matrix ``(3, 3)``."""
         return make_planar(self.x, self.y, self.heading, degrees=self.unit == "degrees")
+
+    def _settings(self) -> dict:
+        return {"x": float(self.x), "y": float(self.y), "heading": float(self.heading), "unit": self.unit,
+                "direction": self.direction}
+
+    def to_state(self, notes: str = "") -> State:
+        """The frame as a posekit State (its SE(2) pose stored as the equivalent 4x4)."""
+        m = self.transform()
+        full = np.eye(4)
+        full[:2, :2] = m[:2, :2]
+        full[:2, 3] = m[:2, 2]
+        return State("planar", self._settings(), (NamedPose("planar pose", full),), (), notes)
+
+    @classmethod
+    def from_state(cls, state: State) -> "PlanarExplorer":
+        if state.widget != "planar":
+            raise StateFileError(f"state is for widget {state.widget!r}, not 'planar'")
+        return cls(**dict(state.settings))
+
+    def code_cell(self) -> str:
+        """A notebook cell that rebuilds exactly this planar explorer."""
+        return python_call("posekit.widgets", "PlanarExplorer", self._settings(), environment_versions())
 
     def _set(self, name: str, value: float, from_slider: bool) -> None:
         if self._syncing:
