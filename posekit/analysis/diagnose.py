@@ -121,6 +121,17 @@ _NAMED_REMAPS = {
 }
 
 
+_REMAP_WORDS: dict[bytes, str] = {}
+
+
+def _remap_words(matrix: np.ndarray) -> str:
+    key = np.asarray(matrix, dtype=np.float64).tobytes()
+    text = _REMAP_WORDS.get(key)
+    if text is None:
+        text = _REMAP_WORDS[key] = describe_remap(matrix)
+    return text
+
+
 def describe_remap(matrix) -> str:
     """A signed permutation ``(3, 3)`` in words: its name if common, else the axis map.
 
@@ -760,7 +771,8 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
     base = np.stack([r_e, r_e.T])                                        # (2, 3, 3)
     pred = np.ascontiguousarray(np.einsum("pab,xbc,qcd->xpqad", remaps, base, remaps).reshape(-1, 9))
     obs9 = np.ascontiguousarray(obs.reshape(k_count, 9))
-    g = obs9 @ pred.T                                                    # (K, 2*NP*NQ)
+    # einsum, not BLAS: for these small products waking BLAS threads costs more than the sum
+    g = np.einsum("kj,hj->kh", obs9, pred)                               # (K, 2*NP*NQ)
     m2 = np.sum(obs9 * obs9, axis=1)
     chord2 = np.maximum(m2[:, None] + 3.0 - 2.0 * g, 0.0)               # |M - S|_F^2
     # |M - S|_F^2 = 8 sin^2(theta/2), so chord^2 / 2 = theta^2 (1 + O(theta^2)): the short list is
@@ -778,18 +790,22 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
         v = np.array(rels)                                               # (X3, F3, 3)
         pt = np.einsum("pab,xfb->xfpa", remaps, v)                       # (X, F, NP, 3)
         t_obs = np.stack([i.translation for i in interps])               # (K, 3)
-        scaled = t_obs[:, None, :] * np.array(_SCALES)[None, :, None]    # (K, S, 3)
-        diff = scaled[:, :, None, None, None, :] - pt[None, None]        # (K, S, X, F, NP, 3)
-        t_res = np.sqrt(np.sum(diff * diff, axis=-1))
-        t_cost = 0.5 * (t_res / translation_tolerance) ** 2
+        # |s t - P v|^2 = s^2 |t|^2 - 2 s t.(P v) + |v|^2  (|P v| = |v|); exact values for the short list below
+        sc = np.array(_SCALES)
+        dot = np.einsum("ka,xfpa->kxfp", t_obs, pt)                      # (K, X, F, NP)
+        tt = np.sum(t_obs * t_obs, axis=1)
+        vv = np.sum(v * v, axis=-1)                                      # (X, F)
+        sq = (sc[None, :, None, None, None] ** 2 * tt[:, None, None, None, None]
+              - 2.0 * sc[None, :, None, None, None] * dot[:, None] + vv[None, None, :, :, None])
+        t_cost = 0.5 * np.maximum(sq, 0.0) / translation_tolerance ** 2    # (K, S, X, F, NP)
         prior_t = PRIOR_WEIGHT * (np.array([0, 1, 1.0])[:, None, None] + np.array([0, 1, 1.0])[None, :, None]
                                   + np.array([0, 1, 1.0])[None, None, :])  # (S, X, F): each non-default is 1
         xr = np.array([0, 1, 1])
-        a_full = (rot_cost[:, xr] + prior_rot[None, None] + PRIOR_WEIGHT * dev[:, None, None, None])  # (K, X, P, Q)
-        b_full = t_cost + prior_t[None, :, :, :, None]                                             # (K, S, X, F, P)
-        n_scored = int(a_full.size * len(_SCALES) * len(_FRAMES))
+        a_rot = rot_cost + prior_rot[None, None] + PRIOR_WEIGHT * dev[:, None, None, None]   # (K, 2, P, Q)
+        b_full = t_cost + prior_t[None, :, :, :, None]                                       # (K, S, X, F, P)
+        n_scored = int(k_count * len(_RELATIONS) * n_remap * n_remap * len(_SCALES) * len(_FRAMES))
         top_n = max(64, 12 * limit)
-        combos, flat_cost = _best_separable(a_full, b_full, top_n)
+        combos, flat_cost = _best_separable(a_rot, b_full, top_n, xr)
     else:
         total = rot_cost + prior_rot[None, None] + PRIOR_WEIGHT * (dev[:, None, None, None]
                                                                    + np.array([0, 1.0])[None, :, None, None])
@@ -813,13 +829,13 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
     n_mat = np.swapaxes(pm, -1, -2) @ m_obs @ np.swapaxes(qm, -1, -2)
     corr_r = np.where((xr_i > 0)[:, None, None], np.swapaxes(n_mat, -1, -2), n_mat)
     if has_t:
-        tres = t_res[k_i, s_i, x_i, f_i, p_i]
+        tres = np.sqrt(np.sum((t_obs[k_i] * sc[s_i][:, None] - pt[x_i, f_i, p_i]) ** 2, axis=-1))
         u = np.einsum("nba,nb->na", pm, t_obs[k_i] * np.array(_SCALES)[s_i][:, None])
         tprime = np.where((f_i == 1)[:, None], np.einsum("nab,nb->na", n_mat, u),
                           np.where((f_i == 2)[:, None], -np.einsum("nab,nb->na", n_mat, u), u))
         corr_t = np.where((x_i == 2)[:, None], -np.einsum("nba,nb->na", n_mat, tprime), tprime)
         cost = (0.5 * (rres / rotation_tolerance) ** 2 + 0.5 * (tres / translation_tolerance) ** 2
-                + flat_cost - (rot_cost[:, xr][k_i, x_i, p_i, q_i] + t_cost[k_i, s_i, x_i, f_i, p_i]))
+                + flat_cost - (rot_cost[k_i, xr[x_i], p_i, q_i] + t_cost[k_i, s_i, x_i, f_i, p_i]))
     else:
         tres = np.zeros(len(idx))
         corr_t = None
@@ -853,9 +869,9 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
             if s:
                 parts.append(s)
             if not np.array_equal(pm[j], np.eye(3)):
-                parts.append(f"the parent frame's axes are remapped: {describe_remap(pm[j])}")
+                parts.append(f"the parent frame's axes are remapped: {_remap_words(pm[j])}")
             if not np.array_equal(qm[j], np.eye(3)):
-                parts.append(f"the child frame's axes are remapped: {describe_remap(qm[j].T)}")
+                parts.append(f"the child frame's axes are remapped: {_remap_words(qm[j].T)}")
             if has_t:
                 for s in (_frame_sentence(_FRAMES[f_i[j]]), _scale_sentence(_SCALES[s_i[j]])):
                     if s:
@@ -863,7 +879,8 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
             return _sentence(parts), rel
 
         sentence, rel = words(rep)
-        equivalents = tuple(dict.fromkeys(words(j)[0] for j in g_sorted[1:] if words(j)[0] != sentence))
+        others = [words(j)[0] for j in g_sorted[1:]]
+        equivalents = tuple(dict.fromkeys(w for w in others if w != sentence))
         interp = interps[k_i[rep]]
         cr = corr_r[rep]
         ct = None if corr_t is None else corr_t[rep]
@@ -878,7 +895,7 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
                         and (not has_t or abs(tres[rep] - best_t) < translation_tolerance))
         explanations.append(Explanation(
             rank, sentence, float(rres[rep]), float(tres[rep]) if has_t else None, float(cost[rep]),
-            float(prior_only[rep] / PRIOR_WEIGHT), interp, rel, pm[rep].copy(), qm[rep].copy(),
+            round(float(prior_only[rep] / PRIOR_WEIGHT), 6) + 0.0, interp, rel, pm[rep].copy(), qm[rep].copy(),
             _FRAMES[f_i[rep]], float(_SCALES[s_i[rep]]), cr.copy(), None if ct is None else ct.copy(), nums,
             code, equivalents, near, improper,
             tuple(_member(interps[k_i[j]], (_RELATIONS[x_i[j]] if has_t else ("as-is", "rotation-transposed")[x_i[j]]),
@@ -902,24 +919,24 @@ def _best_dense(total: np.ndarray, top_n: int):
     return np.array(np.unravel_index(idx, total.shape)).T, flat[idx]
 
 
-def _best_separable(a_full: np.ndarray, b_full: np.ndarray, top_n: int):
-    """Exact ``top_n`` of ``A[k, x, p, q] + B[k, s, x, f, p]`` without forming the full sum.
+def _best_separable(a_rot: np.ndarray, b_full: np.ndarray, top_n: int, xmap: np.ndarray):
+    """Exact ``top_n`` of ``A[k, xmap[x], p, q] + B[k, s, x, f, p]`` without forming the full sum.
 
     Given ``(k, x, p)`` the two parts are independent, so the cell's best cost is
     ``min_q A + min_{s,f} B``.  The ``top_n``-th smallest cell best ``T`` bounds the
     ``top_n``-th best hypothesis, and every hypothesis costing <= T lies in a cell whose
     best is <= T: only those cells are expanded.  Rows are ``(k, s, x, f, p, q)``.
     """
-    k_n, x_n, p_n, q_n = a_full.shape
-    _, s_n, _, f_n, _ = b_full.shape
+    k_n, _, p_n, q_n = a_rot.shape
+    _, s_n, x_n, f_n, _ = b_full.shape
     b_cells = np.transpose(b_full, (0, 2, 4, 1, 3)).reshape(k_n, x_n, p_n, s_n * f_n)   # (K, X, P, S*F)
-    lower = a_full.min(axis=-1) + b_cells.min(axis=-1)                                   # (K, X, P)
+    lower = a_rot.min(axis=-1)[:, xmap] + b_cells.min(axis=-1)                           # (K, X, P)
     flat_lb = lower.reshape(-1)
     n = min(top_n, flat_lb.size)
     bound = np.partition(flat_lb, n - 1)[n - 1]
     cells = np.flatnonzero(flat_lb <= bound)
     kk, xx, pp = np.unravel_index(cells, lower.shape)
-    sub = b_cells[kk, xx, pp][:, :, None] + a_full[kk, xx, pp][:, None, :]               # (C, S*F, Q)
+    sub = b_cells[kk, xx, pp][:, :, None] + a_rot[kk, xmap[xx], pp][:, None, :]          # (C, S*F, Q)
     flat = sub.reshape(-1)
     m = min(top_n, flat.size)
     idx = np.argpartition(flat, m - 1)[:m]
@@ -1158,10 +1175,10 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
         prior_t = PRIOR_WEIGHT * (np.array([0, 1, 1.0])[:, None, None] + np.array([0, 1, 1.0])[None, :, None]
                                   + np.array([0, 1, 1.0])[None, None, :])
         xr = np.array([0, 1, 1])
-        a_full = rot_cost[:, xr] + prior_rot[None, None] + PRIOR_WEIGHT * dev[:, None, None, None]
+        a_rot = rot_cost + prior_rot[None, None] + PRIOR_WEIGHT * dev[:, None, None, None]
         b_full = t_cost + prior_t[None, :, :, :, None]
-        n_scored = int(a_full.size * len(_SCALES) * len(_FRAMES))
-        combos, flat_cost = _best_separable(a_full, b_full, max(32, 8 * limit))
+        n_scored = int(k_count * len(_RELATIONS) * n_remap * n_remap * len(_SCALES) * len(_FRAMES))
+        combos, flat_cost = _best_separable(a_rot, b_full, max(32, 8 * limit), xr)
     else:
         total = rot_cost + prior_rot[None, None] + PRIOR_WEIGHT * (dev[:, None, None, None]
                                                                    + np.array([0, 1.0])[None, :, None, None])
@@ -1216,9 +1233,9 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
             if st:
                 parts.append(st)
             if p != 0:
-                parts.append(f"the parent frame's axes are remapped: {describe_remap(remaps[p])}")
+                parts.append(f"the parent frame's axes are remapped: {_remap_words(remaps[p])}")
             if q != 0:
-                parts.append(f"the child frame's axes are remapped: {describe_remap(remaps[q].T)}")
+                parts.append(f"the child frame's axes are remapped: {_remap_words(remaps[q].T)}")
             if has_t:
                 for st in (_frame_sentence(_FRAMES[f]), _scale_sentence(_SCALES[s])):
                     if st:
@@ -1226,12 +1243,13 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
             return _sentence(parts), rel
 
         sentence, rel = words(rep)
-        equivalents = tuple(dict.fromkeys(words(r)[0] for r in g_sorted[1:] if words(r)[0] != sentence))
+        others = [words(r)[0] for r in g_sorted[1:]]
+        equivalents = tuple(dict.fromkeys(w for w in others if w != sentence))
         _, prior, k, s, x, f, p, q, rr, tr = rep
         interp = interps[k]
         explanations.append(Explanation(
             rank, sentence, float(np.sqrt(np.mean(rr * rr))), None if tr is None else float(np.sqrt(np.mean(tr * tr))),
-            float(rep[0]), float(prior / PRIOR_WEIGHT), interp, rel, remaps[p].copy(), remaps[q].copy(),
+            float(rep[0]), round(float(prior / PRIOR_WEIGHT), 6) + 0.0, interp, rel, remaps[p].copy(), remaps[q].copy(),
             _FRAMES[f], float(_SCALES[s]), np.eye(3), None, (),
             _batch_snippet(_snippet(_one_row(interp), rel, remaps[p], remaps[q], _FRAMES[f], _SCALES[s], has_t)),
             equivalents, False, bool(np.linalg.det(remaps[p]) * np.linalg.det(remaps[q]) < 0),

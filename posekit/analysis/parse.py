@@ -780,6 +780,37 @@ def _quaternion_candidates(q4: np.ndarray, kind="quaternion", translation=None, 
     return out, []
 
 
+def _euler_matrices(angles: np.ndarray, seqs: tuple[str, ...], permute=None) -> np.ndarray:
+    """Matrices of ``angles (..., 3)`` radians under every sequence, intrinsic and extrinsic at once.
+
+    Intrinsic (a, b, c) about (p, q, r) is ``Rp(a) Rq(b) Rr(c)``; extrinsic is
+    ``Rr(c) Rq(b) Rp(a)`` (Craig, Introduction to Robotics, 3rd ed., section 2.8, from
+    memory) -- the same products posekit.core.rotation.quaternion_of_euler forms, stacked
+    over the sequences so that four Hamilton products serve them all.  With
+    ``permute`` the angles are named by axis (roll = x ...) and picked per sequence.
+    ``-> (2, len(seqs), ..., 3, 3)``.
+    """
+    idx = np.array([[rot.AXIS_INDEX[c] for c in seq] for seq in seqs])         # (S, 3)
+    if permute is None:
+        vals = np.broadcast_to(angles[None], (len(seqs),) + angles.shape)        # (S, ..., 3)
+    else:
+        vals = np.moveaxis(angles[..., idx], -2, 0)                              # (S, ..., 3)
+    half = 0.5 * vals
+    lead = vals.shape[:-1]
+    factors = []
+    for slot in range(3):
+        e = np.zeros(lead + (4,))
+        e[..., 0] = np.cos(half[..., slot])
+        axis = idx[:, slot].reshape((len(seqs),) + (1,) * (len(lead) - 1))
+        np.put_along_axis(e, np.broadcast_to(1 + axis, lead)[..., None], np.sin(half[..., slot])[..., None],
+                          axis=-1)
+        factors.append(e)
+    e1, e2, e3 = factors
+    intrinsic = rot.hamilton_product(rot.hamilton_product(e1, e2), e3)
+    extrinsic = rot.hamilton_product(rot.hamilton_product(e3, e2), e1)
+    return rot.matrix_of_quaternion(np.stack([intrinsic, extrinsic]))
+
+
 def _angle_candidates(a3: np.ndarray, kind_suffix: str, translation=None, position_first=True, count=3,
                       sequences=None, units=("radians", "degrees"), permute=None, rotvec=True, euler=True):
     rad_s, deg_s, sentence = unit_judgement(a3)
@@ -789,16 +820,18 @@ def _angle_candidates(a3: np.ndarray, kind_suffix: str, translation=None, positi
     for unit in units:
         scale = math.pi / 180.0 if unit == "degrees" else 1.0
         if euler:
-            for seq in (sequences or rot.SEQUENCES):
-                vals = a3 if permute is None else a3[..., [permute[c] for c in seq]]
+            seqs = tuple(sequences or rot.SEQUENCES)
+            mats = _euler_matrices(a3 * scale, seqs, permute)   # (2, S, ..., 3, 3): intrinsic, extrinsic
+            for si, seq in enumerate(seqs):
                 nums: tuple[float, ...] = ()
-                if permute is not None and vals.ndim == 1:
+                if permute is not None and a3.ndim == 1:
+                    vals = a3[[permute[c] for c in seq]]
                     lead = [] if translation is None else [float(v) for v in translation]
                     nums = tuple(lead + [float(v) for v in vals])
-                for axes in ("intrinsic", "extrinsic"):
-                    r = rot.matrix_of_euler(vals * scale, seq, axes == "intrinsic")
+                for ai, axes in enumerate(("intrinsic", "extrinsic")):
                     out.append(Interpretation(prefix + "euler", _conv(sequence="-".join(seq), axes=axes, unit=unit),
-                                              r, translation, scores[unit], (sentence,), position_first, count, nums))
+                                              mats[ai, si], translation, scores[unit], (sentence,), position_first,
+                                              count, nums))
         if rotvec:
             r = rot.matrix_of_quaternion(rot.quaternion_of_rotvec(a3 * scale))
             nums = ()
@@ -918,9 +951,11 @@ def _interpret_named(values: np.ndarray, names: tuple[str, ...], units: dict[str
         cands, rej = _quaternion_candidates(q, kind, translation, True, count, orders=("first",))
         if rej:
             raise NoInterpretationError(rej[0])
-        names_order = [n.rpartition(".")[2] for n in names if n.rpartition(".")[2] in _QUATERNION_NAMES
-                       or n.startswith("rotation.")]
-        scalar = "first" if names_order and names_order[0] in ("w", "qw") else "last"
+        keys = [n.rpartition(".")[2] for n in names]
+        w_at = next(j for j, k in enumerate(keys) if k in ("w", "qw"))
+        x_key = "qx" if "qx" in keys else "x"
+        x_at = max(j for j, k in enumerate(keys) if k == x_key)
+        scalar = "first" if w_at < x_at else "last"
         qn = [quat["w"], quat["x"], quat["y"], quat["z"]] if scalar == "first" else \
             [quat["x"], quat["y"], quat["z"], quat["w"]]
         lead = [] if translation is None else list(translation)
