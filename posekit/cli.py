@@ -185,8 +185,10 @@ def _check(args) -> tuple[dict, str]:
 
 def _tour() -> int:
     here = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-    notebook = os.path.join(here, "notebooks", "tour.ipynb")
-    if os.path.exists(notebook):
+    found = [p for p in (os.path.join(os.getcwd(), "notebooks", "tour.ipynb"),
+                         os.path.join(here, "notebooks", "tour.ipynb")) if os.path.exists(p)]
+    if found:
+        notebook = found[0]
         cmd = [sys.executable, "-m", "jupyter", "lab", notebook]
         if hasattr(os, "geteuid") and os.geteuid() == 0:
             cmd.append("--allow-root")

@@ -17,7 +17,6 @@ import numpy as np
 import pytest
 from scipy.spatial.transform import Rotation
 
-import posekit as pk
 from posekit.analysis.diagnose import (DescriptionError, axis_remaps, average_rotation, describe_remap, diagnose,
                                        diagnose_batch, expected_pose, pose_from_words)
 from posekit.core.errors import PoseInputError
@@ -352,3 +351,27 @@ def test_batch_snippet_runs_over_the_logged_rows():
     exec(b.best.code, scope)  # posekit's own generated code
     assert np.allclose(scope["R"], rots.as_matrix(), atol=1e-9)  # scipy: Rotation.as_matrix
     assert np.allclose(scope["t"], t, atol=1e-9)
+
+
+def test_named_observed_components_are_diagnosed():
+    rot, t = _truth(21)
+    q = rot.inv().as_quat()                                                     # scipy: scalar last
+    text = (f"position:\n  x: {t[0]:.9f}\n  y: {t[1]:.9f}\n  z: {t[2]:.9f}\norientation:\n"
+            f"  x: {q[0]:.9f}\n  y: {q[1]:.9f}\n  z: {q[2]:.9f}\n  w: {q[3]:.9f}")
+    d = diagnose(_h(rot, t), text)
+    assert any(_matches(m, _member("scalar=last", relation="rotation-transposed")) for m in d.best.members) or \
+        any(_matches(m, _member("scalar=last algebra=jpl")) for m in d.best.members)
+    assert "scalar" not in d.best.sentence  # the names fixed where w sits: not a mistake
+    scope = {}
+    exec(d.best.code, scope)  # posekit's own generated code
+    assert np.allclose(scope["R"], rot.as_matrix(), atol=1e-6) and np.allclose(scope["t"], t, atol=1e-6)
+
+
+def test_batch_offset_is_fitted_under_the_right_reading():
+    rots, _, _ = _batch(200, 9)
+    mount = Rotation.from_euler("ZYX", [4, -2, 1], degrees=True)
+    obs = (rots * mount).as_quat()                                              # scipy: scalar last
+    b = diagnose_batch(rots.as_matrix(), obs, rotation_tolerance=math.radians(0.1))
+    assert not b.consistent
+    assert b.offset.side == "right" and "scalar last" in b.offset.sentence
+    assert np.allclose(b.offset.rotation, mount.as_matrix(), atol=1e-9)         # scipy: as_matrix

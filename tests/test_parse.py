@@ -257,3 +257,12 @@ def test_error_line_and_column_on_later_lines():
 def test_not_text_is_a_typed_error():
     with pytest.raises(PasteParseError):
         parse_numbers([1, 2, 3])  # type: ignore[arg-type]
+
+
+def test_typographic_minus_and_wrappers():
+    p = parse_numbers("\u22120.5, 0.5, \u22120.5, 0.5")
+    assert p.numbers.tolist() == [-0.5, 0.5, -0.5, 0.5]
+    assert parse_numbers("quaternion(1, 0, 0, 0)").shape == (4,)
+    with pytest.raises(PasteParseError) as info:
+        parse_numbers("1 \u22120.5x")
+    assert info.value.position == 2

@@ -44,8 +44,8 @@ import numpy as np
 
 from ..core import rotation as rot
 from ..core.checks import as_numbers, orthonormality_error
-from ..core.convention import CHOICES, Convention
-from ..core.errors import PoseInputError, WrongShapeError
+from ..core.convention import Convention
+from ..core.errors import PoseInputError
 
 __all__ = ["PasteParseError", "NoInterpretationError", "Interpretation", "ParsedNumbers", "parse_numbers",
            "interpret_numbers", "unit_judgement", "SUPPORTED_COUNTS"]
@@ -124,9 +124,18 @@ def _scan(text: str) -> list[_Tok]:
     i, n = 0, len(text)
     while i < n:
         ch = text[i]
-        if ch in " \t\r\f\v":
+        if ch in " \t\r\f\v\u00a0":
             i += 1
             continue
+        if ch == "\u2212":  # the typographic minus sign pasted from documents reads as '-'
+            m = _NUMBER.match("-" + text[i + 1:i + 40])
+            if m and m.end() > 1:
+                end = i + m.end()
+                if end < n and (text[end].isalnum() or text[end] in "._"):
+                    raise _Stop("malformed number", i)
+                toks.append(_Tok("num", "-" + text[i + 1:end], i, end, float(m.group(0))))
+                i = end
+                continue
         if ch == "#":  # a comment runs to the end of the line
             j = text.find("\n", i)
             i = n if j < 0 else j
@@ -186,7 +195,7 @@ class _Stop(Exception):
 # --------------------------------------------------------------------------------------
 
 _WRAPPERS = {"array", "np.array", "numpy.array", "matrix", "np.matrix", "numpy.matrix", "np.asarray",
-             "asarray", "tensor", "torch.tensor"}
+             "asarray", "tensor", "torch.tensor", "quaternion", "tuple", "list"}
 
 _SECTION_WORDS = {
     "position": "position", "translation": "position", "origin": "position", "pos": "position",
@@ -328,11 +337,6 @@ def _flatten(items) -> list[float]:
     for x in items:
         out.extend(_flatten(x))
     return out
-
-
-def _check_ragged(reader: _Reader, items, open_tok: _Tok) -> tuple[int, ...]:
-    """Like _shape_of but reports the position of the first sub-list that breaks the shape."""
-    return _shape_of(items, open_tok, reader.text)
 
 
 def _read_numeric(reader: _Reader):
@@ -993,6 +997,25 @@ def _interpret_named(values: np.ndarray, names: tuple[str, ...], units: dict[str
     return tuple(sorted(out, key=lambda i: -i.score)), tuple(notes)
 
 
+def _turn_words(m: np.ndarray) -> str:
+    """One rotation block in words: the turn angle and axis (of the nearest rotation when off)."""
+    m = np.asarray(m, dtype=np.float64)
+    if m.ndim != 2:
+        return f"a batch of {m.shape[0]} rotations"
+    u, _, vt = np.linalg.svd(m)
+    det = float(np.linalg.det(m))
+    r = u @ vt
+    if np.linalg.det(r) < 0:
+        return f"a reflection (det {det:.3g}), no rotation"
+    rv = rot.rotvec_of_quaternion(rot.quaternion_of_matrix(r))
+    angle = float(np.linalg.norm(rv))
+    if angle < 1e-12:
+        return "no turn (the identity)"
+    axis = rv / angle
+    axis = np.round(axis, 4) + 0.0
+    return (f"a turn of {math.degrees(angle):.6g} degrees about ({', '.join(f'{v:.4f}' for v in axis)})")
+
+
 @dataclass(frozen=True, eq=False)
 class ParsedNumbers:
     """The result of :func:`parse_numbers`.
@@ -1043,7 +1066,10 @@ class ParsedNumbers:
             lines.append(f"{len(self.interpretations)} interpretation(s)"
                          + (", several equally valid (none picked):" if self.ambiguous else ":"))
             for i in self.interpretations:
-                lines.append(f"  [{i.score:.3f}] {i.describe()}" + (f"  -- {i.reasons[0]}" if i.reasons else ""))
+                lines.append(f"  [{i.score:.3f}] {i.describe()}" + (f"  -- {'; '.join(i.reasons)}" if i.reasons else ""))
+                lines.append(f"          {_turn_words(i.rotation)}"
+                             + ("" if i.translation is None else
+                                f", origin at ({', '.join(f'{v:.6g}' for v in np.ravel(i.translation))})"))
         return "\n".join(lines)
 
     def as_dict(self) -> dict:
