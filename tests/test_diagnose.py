@@ -130,7 +130,7 @@ def _h(rot, t):
 SCENARIOS = _scenarios()
 
 
-@pytest.mark.parametrize("seed", [11, 12])
+@pytest.mark.parametrize("seed", range(12))
 @pytest.mark.parametrize("name, build", SCENARIOS)
 def test_injected_error_ranks_first(name, build, seed):
     rot, t = _truth(seed)
@@ -138,7 +138,16 @@ def test_injected_error_ranks_first(name, build, seed):
     expected = _h(rot, t) if what == "pose" else rot.as_matrix()
     d = diagnose(expected, observed, **options)
     best = d.best
-    assert any(_matches(m, want) for m in best.members), (name, best.sentence, best.members[:3])
+    if not any(_matches(m, want) for m in best.members):
+        # Only allowed when the data cannot separate them: a truth within a degree of a
+        # half turn is nearly its own transpose, so "no error" fits within tolerance and
+        # the prior puts it first -- then the near tie must be flagged and the injected
+        # error must come second.
+        assert d.near_tie, (name, seed, best.sentence)
+        assert any(_matches(m, want) for m in d.explanations[1].members), (name, seed, best.sentence)
+        assert best.rotation_residual < 2 * math.radians(0.5)
+        assert abs(math.degrees(rot.magnitude()) - 180) < 1.0                  # scipy: Rotation.magnitude
+        return
     assert best.rotation_residual < 1e-6
     if what == "pose":
         assert best.translation_residual < 1e-5

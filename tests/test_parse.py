@@ -73,6 +73,10 @@ CASES = [
     ("array(" + _NP_REPR + ")", (3, 3), 2, {"matrix"}, "numpy"),
     (json.dumps(_M.tolist()), (3, 3), 2, {"matrix"}, "nested"),
     ("1 2 3 4 5", (5,), 0, set(), "bare"),
+    ("R = [[1, 0, 0], [0, 1, 0], [0, 0, 1]]", (3, 3), 2, {"matrix"}, "nested"),
+    ("T_world_camera:\narray([[1., 0., 0., 0.5],\n       [0., 1., 0., 0.],\n       [0., 0., 1., 0.],\n"
+     "       [0., 0., 0., 1.]])", (4, 4), 2, {"transform"}, "numpy"),
+    ("1\t0\t0\r\n0\t1\t0\r\n0\t0\t1\r\n", (3, 3), 2, {"matrix"}, "printed"),
 ]
 
 
@@ -197,6 +201,11 @@ def test_wrong_count_is_a_typed_error_on_request():
         p.require_interpretations()
     with pytest.raises(NoInterpretationError):
         interpret_numbers([1, 2, 3, 4, 5])
+
+
+def test_a_skipped_label_is_said():
+    p = parse_numbers("R = [[1, 0, 0], [0, 1, 0], [0, 0, 1]]")
+    assert any("label 'R'" in n for n in p.notes)
 
 
 def test_ragged_lines_are_read_flat_and_said_so():

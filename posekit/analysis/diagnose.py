@@ -42,9 +42,10 @@ other reflection (arbitrary remaps are rarer than reading mistakes).
 The cost of a hypothesis is ``0.5 (rotation residual / rotation_tolerance)^2 +
 0.5 (translation residual / translation_tolerance)^2 + 3 k``; the lowest cost
 ranks first.  Hypotheses whose residuals agree to 1e-9 are *indistinguishable from
-this sample* and are grouped (the simplest one speaks for the group); distinct
-explanations whose residuals are within the tolerances of the best are flagged as
-near ties.
+this sample* and are grouped (the simplest one speaks for the group); a distinct
+explanation is flagged as a near tie of the best when its residuals are within the
+tolerances of the best one's, or when its cost is less than one deviation
+(``PRIOR_WEIGHT``) above the best -- then the prior, not the data, decided the order.
 """
 
 from __future__ import annotations
@@ -891,11 +892,12 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
         nums = _corrected_numbers(cr, ct, akind, assumed_conv, improper)
         code = _snippet(interp, rel, pm[rep], qm[rep], _FRAMES[f_i[rep]], _SCALES[s_i[rep]], has_t)
         if best_r is None:
-            best_r, best_t = rres[rep], tres[rep]
+            best_r, best_t, best_cost = rres[rep], tres[rep], cost[rep]
             near = False
         else:
-            near = bool(abs(rres[rep] - best_r) < rotation_tolerance
-                        and (not has_t or abs(tres[rep] - best_t) < translation_tolerance))
+            near = bool((abs(rres[rep] - best_r) < rotation_tolerance
+                         and (not has_t or abs(tres[rep] - best_t) < translation_tolerance))
+                        or cost[rep] - best_cost < PRIOR_WEIGHT)
         explanations.append(Explanation(
             rank, sentence, float(rres[rep]), float(tres[rep]) if has_t else None, float(cost[rep]),
             round(float(prior_only[rep] / PRIOR_WEIGHT), 6) + 0.0, interp, rel, pm[rep].copy(), qm[rep].copy(),
@@ -1255,9 +1257,10 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
     best_rr, best_tr = groups[0][0][8], groups[0][0][9]
     for e_i in range(1, len(explanations)):
         g0, gi = groups[0][0], groups[e_i][0]
-        near = bool(abs(np.sqrt(np.mean(gi[8] ** 2)) - np.sqrt(np.mean(g0[8] ** 2))) < rotation_tolerance
-                    and (gi[9] is None or abs(np.sqrt(np.mean(gi[9] ** 2)) - np.sqrt(np.mean(g0[9] ** 2)))
-                         < translation_tolerance))
+        near = bool((abs(np.sqrt(np.mean(gi[8] ** 2)) - np.sqrt(np.mean(g0[8] ** 2))) < rotation_tolerance
+                     and (gi[9] is None or abs(np.sqrt(np.mean(gi[9] ** 2)) - np.sqrt(np.mean(g0[9] ** 2)))
+                          < translation_tolerance))
+                    or gi[0] - g0[0] < PRIOR_WEIGHT)
         explanations[e_i] = Explanation(**{**explanations[e_i].__dict__, "near_tie": near})
         if near:
             explanations[0] = Explanation(**{**explanations[0].__dict__, "near_tie": True})

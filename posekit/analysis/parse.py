@@ -1100,10 +1100,22 @@ def parse_numbers(text: str) -> ParsedNumbers:
         if not toks or all(t.kind == "punct" and t.text == "\n" for t in toks):
             raise _Stop("no numbers found (the text is empty)", len(text))
         fmt_prefix = ""
-        # numpy-style wrapper: array( ... [, dtype=...] )
+        label_notes: tuple[str, ...] = ()
         j = 0
         while j < len(toks) and toks[j].kind == "punct" and toks[j].text == "\n":
             j += 1
+        # a leading label such as "R =" or "T_world_camera:" before a list or array(...)
+        if (j + 2 < len(toks) and toks[j].kind == "word" and toks[j + 1].kind == "punct"
+                and toks[j + 1].text in ":=" and toks[j].text.lower() not in _SECTION_WORDS
+                and toks[j].text.lower() not in _COMPONENT_WORDS.split()):
+            k = j + 2
+            while k < len(toks) and toks[k].kind == "punct" and toks[k].text == "\n":
+                k += 1
+            if k < len(toks) and (toks[k].text in "[(" or toks[k].text in _WRAPPERS):
+                label_notes = (f"the label '{toks[j].text}' before the numbers was skipped",)
+                toks = toks[k:]
+                j = 0
+        # numpy-style wrapper: array( ... [, dtype=...] )
         if j < len(toks) and toks[j].kind == "word" and toks[j].text in _WRAPPERS:
             if j + 1 >= len(toks) or toks[j + 1].text != "(":
                 raise _Stop(f"expected '(' after '{toks[j].text}'", toks[j + 1].start if j + 1 < len(toks) else len(text))
@@ -1169,4 +1181,4 @@ def parse_numbers(text: str) -> ParsedNumbers:
         interps = interpret_numbers(arr, shape)
     except NoInterpretationError:
         interps = ()
-    return ParsedNumbers(text, arr, tuple(shape), fmt_prefix + fmt, interps, None, notes)
+    return ParsedNumbers(text, arr, tuple(shape), fmt_prefix + fmt, interps, None, label_notes + tuple(notes))
