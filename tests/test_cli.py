@@ -1,0 +1,142 @@
+"""The command line, run as a user runs it: ``python -m posekit.cli`` in a subprocess.
+
+Reference values come from scipy.spatial.transform.Rotation (named beside each check).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+from scipy.spatial.transform import Rotation
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def run(*args, stdin: str | None = None):
+    env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    return subprocess.run([sys.executable, "-m", "posekit.cli", *args], capture_output=True, text=True,
+                          input=stdin, env=env, cwd=ROOT, timeout=120)
+
+
+def _text(values):
+    return " ".join(f"{v:.9f}" for v in np.ravel(values))
+
+
+ROT = Rotation.from_euler("ZYX", [40, -15, 8], degrees=True)   # scipy: upper case = intrinsic
+
+
+def test_diagnose_json_names_the_scalar_order():
+    proc = run("diagnose", "--expected", "40 -15 8", "--expected-convention", "unit=degrees",
+               "--observed", _text(ROT.as_quat()), "--json")                    # scipy: as_quat is scalar last
+    assert proc.returncode == 0, proc.stderr
+    data = json.loads(proc.stdout)
+    best = data["explanations"][0]
+    assert best["sentence"] == "The quaternion was written scalar-last but read scalar-first."
+    assert best["rotation_residual_degrees"] < 1e-6
+    assert data["hypotheses_scored"] == 4 * 2 * 24 * 24
+    assert np.allclose(best["corrected_rotation"], ROT.as_matrix(), atol=1e-8)  # scipy: as_matrix
+    assert "prior" in data and data["near_tie"] is False
+
+
+def test_diagnose_from_words_human_output():
+    q = Rotation.from_euler("y", 25, degrees=True).as_quat()                    # scipy: scalar last
+    proc = run("diagnose", "--expected", "pitched 25 degrees down, 0.3 m forward",
+               "--observed", _text([300, 0, 0, *q]))
+    assert proc.returncode == 0, proc.stderr
+    first = [ln for ln in proc.stdout.splitlines() if ln.startswith("1. ")][0]
+    assert "scalar-last" in first and "millimetres" in first
+    assert "pk.read_rotation" in proc.stdout
+
+
+def test_diagnose_batch_files(tmp_path):
+    rots = Rotation.random(30, random_state=4)                                  # scipy: Rotation.random
+    exp = tmp_path / "truth.txt"
+    obs = tmp_path / "logged.txt"
+    exp.write_text("\n".join(_text(r) for r in rots.as_matrix()))
+    obs.write_text("# logged quaternions\n" + "\n".join(_text(q) for q in rots.inv().as_quat(scalar_first=True)))
+    proc = run("diagnose", "--expected-file", str(exp), "--observed-file", str(obs), "--json")
+    assert proc.returncode == 0, proc.stderr
+    data = json.loads(proc.stdout)
+    assert data["pairs"] == 30 and data["consistent"] is True
+    assert any(m["relation"] == "rotation-transposed" for m in data["explanations"][0]["members"])
+    assert len(data["rotation_residuals_degrees"]) == 30
+
+
+def test_convert_quaternion_to_degrees_euler():
+    proc = run("convert", _text(ROT.as_quat()), "--from", "scalar=last", "--to-kind", "euler",
+               "--to", "unit=degrees", "--json")
+    assert proc.returncode == 0, proc.stderr
+    data = json.loads(proc.stdout)
+    assert np.allclose(data["numbers"], ROT.as_euler("ZYX", degrees=True))       # scipy: as_euler intrinsic ZYX
+    assert data["from_kind"] == "quaternion"
+
+
+def test_convert_transform_from_stdin():
+    m = np.eye(4)
+    m[:3, :3] = ROT.as_matrix()
+    m[:3, 3] = [1, 2, 3]
+    proc = run("convert", "-", "--from", "layout=column-major", "--to-kind", "position-quaternion",
+               stdin=_text(m.T))
+    assert proc.returncode == 0, proc.stderr
+    nums = [float(v) for v in proc.stdout.strip().splitlines()[-1].split()]
+    q = ROT.as_quat(scalar_first=True)                                          # scipy: scalar first
+    assert np.allclose(nums[:3], [1, 2, 3]) and np.allclose(np.abs(nums[3:]), np.abs(q), atol=1e-9)
+
+
+def test_check_lists_every_reading():
+    proc = run("check", "[[1, 0, 0], [0, 0, -1], [0, 1, 0]]", "--json")
+    assert proc.returncode == 0, proc.stderr
+    data = json.loads(proc.stdout)
+    assert data["shape"] == [3, 3] and data["ambiguous"] is True
+    assert {i["convention"] for i in data["interpretations"]} == {"", "layout=column-major"}
+    text = run("check", "0 0 0 1").stdout
+    assert "4 interpretation(s)" in text and "none picked" in text
+
+
+@pytest.mark.parametrize("args, words", [
+    (("check", "1 2 abc"), ["offset 4", "^"]),
+    (("check", "1 2 3 4 5"), ["5 numbers"]),
+    (("convert", "1 0 0 0", "--to-kind", "euler", "--from", "scalar=LAST"), ["upper-case"]),
+    (("convert", "1 0 0 0", "--to-kind", "sideways"), ["not a kind"]),
+    (("convert", "1.5 0 0 0", "--to-kind", "euler"), ["length"]),
+    (("diagnose", "--expected", "pitched 25 down", "--observed", "1 0 0 0"), ["angle unit"]),
+    (("diagnose", "--expected", "1 0 0 0", "--observed", "[1, 2"), ["never closed"]),
+    (("diagnose", "--observed", "1 0 0 0"), ["--expected is missing"]),
+    (("diagnose", "--expected-file", "/nonexistent/x.txt", "--observed-file", "/nonexistent/y.txt"),
+     ["cannot read file"]),
+])
+def test_bad_input_exits_nonzero_with_a_message_and_no_traceback(args, words):
+    proc = run(*args)
+    assert proc.returncode == 2
+    assert proc.stdout == ""
+    assert "Traceback" not in proc.stderr
+    for w in words:
+        assert w in proc.stderr, proc.stderr
+    assert proc.stderr.startswith("posekit ")
+
+
+def test_unknown_verb_is_a_usage_error():
+    proc = run("frobnicate")
+    assert proc.returncode == 2 and "invalid choice" in proc.stderr
+
+
+def test_main_is_importable_and_returns_codes(capsys):
+    from posekit.cli import main
+
+    assert main(["check", "1 0 0 0"]) == 0
+    assert main(["check", "1 0 0"]) == 0
+    assert main(["check", "1 0"]) == 2
+    assert "no pose representation" in capsys.readouterr().err
+
+
+@pytest.mark.skipif((ROOT / "notebooks" / "tour.ipynb").exists(), reason="would open JupyterLab")
+def test_tour_without_a_notebook_runs_the_terminal_demo():
+    proc = run("tour")
+    assert proc.returncode == 0, proc.stderr
+    assert "posekit demo" in proc.stdout
