@@ -139,7 +139,8 @@ def frame_figure(rotation, origin=None, *, reference: bool = True, body: bool = 
     ``rotation (3, 3)`` and ``origin (3,)`` place the frame; ``steps (4, 3, 3)`` (from
     :func:`posekit.core.steps.euler_steps`) adds the frames after turns 1 and 2 as thin
     dashed arrows; ``overlays`` is a sequence of ``(label, rotation, origin)`` drawn
-    dashed with the label as letter suffix (e.g. expected vs observed).
+    dashed, their arrow tips marked with primes and their legend entries named
+    ``label (prime)`` (e.g. expected vs observed).
 
     Trace order (stable, so widgets can update traces by index): parent frame (if
     ``reference``), the frame, its body (if ``body``), step 1, step 2 (if ``steps``),
@@ -157,9 +158,11 @@ def frame_figure(rotation, origin=None, *, reference: bool = True, body: bool = 
         for k in (1, 2):
             traces.append(frame_trace(s[k], origin, name=f"after turn {k}", palette=palette, scale=0.8 * scale,
                                       opacity=0.6, width=3, dash="dash", suffix=str(k)))
-    for label, rot, org in overlays:
-        traces.append(frame_trace(rot, org, name=label, palette=palette, scale=scale, width=4, dash="dot",
-                                  suffix=f" {label}"))
+    marks = ("\u2032", "\u2033", "\u2034")  # primes tell the overlays apart at the arrow tips
+    for n, (label, rot, org) in enumerate(overlays):
+        mark = marks[n % 3] * (1 + n // 3)
+        traces.append(frame_trace(rot, org, name=f"{label} ({mark})", palette=palette, scale=scale, width=4,
+                                  dash="dot", suffix=mark))
     if extent is None:
         extent = SCENE_RANGE * scale
         if origin is not None:
