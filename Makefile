@@ -1,5 +1,6 @@
 # posekit: the two set-up commands of the README live here.
-#   make demo   - create/reuse .venv, install posekit with its extras, run the built-in demo
+#   make demo   - create/reuse .venv, install posekit with its extras, open JupyterLab on the tour notebook
+#   make demo-terminal - the same set-up, then a short demo of the core printed to the terminal
 #   make test   - create/reuse .venv, install everything (and Debian's chromium if missing), run all tests
 #   make bench  - run the benchmark scripts and print their figures
 
@@ -8,7 +9,7 @@ VENV   ?= .venv
 BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.posekit-installed
 
-.PHONY: install demo test bench clean
+.PHONY: install demo demo-terminal test bench clean
 
 $(STAMP): pyproject.toml
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -19,6 +20,9 @@ $(STAMP): pyproject.toml
 install: $(STAMP)
 
 demo: $(STAMP)
+	$(BIN)/python -m posekit.cli tour
+
+demo-terminal: $(STAMP)
 	$(BIN)/python -m posekit.demo
 
 test: $(STAMP)
