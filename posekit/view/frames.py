@@ -128,7 +128,7 @@ def _scene(title: str | None, extent: float) -> dict:
     return dict(
         xaxis=dict(axis, title=dict(text="parent x")), yaxis=dict(axis, title=dict(text="parent y")),
         zaxis=dict(axis, title=dict(text="parent z")), aspectmode="cube",
-        camera=dict(eye=dict(x=1.05, y=0.85, z=0.6), up=dict(x=0, y=0, z=1)))
+        camera=dict(eye=dict(x=1.3, y=1.05, z=0.75), up=dict(x=0, y=0, z=1)))
 
 
 def frame_figure(rotation, origin=None, *, reference: bool = True, body: bool = True, steps=None,

@@ -14,12 +14,12 @@ import numpy as np
 __all__ = ["STYLE_SHEET", "matrix_html", "numbers_html", "gauge_html", "panel_html", "words_html", "row_html"]
 
 STYLE_SHEET = """<style>
-.pk-mono { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 12.5px;
+.pk-mono { line-height: 1.3; font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 12.5px;
            border-collapse: collapse; }
 .pk-mono td { padding: 1px 6px; text-align: right; }
 .pk-mono th { padding: 1px 6px; font-weight: normal; color: #666; }
 .pk-matrix { border-left: 2px solid #888; border-right: 2px solid #888; }
-.pk-panel { padding: 4px 8px; border: 1px solid #ddd; border-radius: 4px; flex: 1 1 200px; max-width: 420px; }
+.pk-panel { line-height: 1.35; padding: 4px 8px; border: 1px solid #ddd; border-radius: 4px; flex: 1 1 200px; max-width: 420px; }
 .pk-panel-title { font-weight: 600; font-size: 12.5px; margin-bottom: 3px; }
 .pk-words { font-size: 12px; color: #444; line-height: 1.35; }
 .pk-row { display: flex; flex-wrap: wrap; gap: 8px; }

@@ -76,7 +76,7 @@ class Explorer(w.VBox):
                                           value=keep, layout=w.Layout(width="auto"))
         self.keep_choice.add_class("posekit-keep")
         self.steps_box = w.Checkbox(value=show_steps, description="show the frame after each turn", indent=False)
-        self.body_box = w.Checkbox(value=show_body, description="show the dart body (nose +x, fin +z, notch +y)",
+        self.body_box = w.Checkbox(value=show_body, description="show the body (nose +x, fin +z)",
                                    indent=False)
         self.palette_choice = w.ToggleButtons(options=[("standard colours", "standard"),
                                                        ("colour-blind safe", "colour-blind")], value=palette,

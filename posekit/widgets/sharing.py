@@ -60,6 +60,7 @@ class SharePanel(w.VBox):
                                       tooltip="one standalone file, no network needed to view it")
         for b, css in ((self.save_button, "save"), (self.code_button, "code"), (self.report_button, "report")):
             b.add_class(f"posekit-share-{css}")
+            b.layout.width = "auto"
         self.code = w.Textarea(layout=w.Layout(width="100%", height="150px", display="none"))
         self.code.add_class("posekit-share-code")
         self.message = w.HTML()
