@@ -217,10 +217,13 @@ def main(argv=None) -> int:
     except PoseInputError as exc:
         print(f"posekit {args.verb}: error: {exc}", file=sys.stderr)
         return 2
-    if getattr(args, "json", False):
-        print(json.dumps(data, indent=2))
-    else:
-        print(text)
+    try:
+        print(json.dumps(data, indent=2) if getattr(args, "json", False) else text)
+        sys.stdout.flush()
+    except BrokenPipeError:
+        # the reader (e.g. `| head`) closed the pipe early: not an error of ours, and no traceback
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
     return 0
 
 

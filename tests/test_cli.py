@@ -140,3 +140,13 @@ def test_tour_without_a_notebook_runs_the_terminal_demo():
     proc = run("tour")
     assert proc.returncode == 0, proc.stderr
     assert "posekit demo" in proc.stdout
+
+
+def test_reader_closing_the_pipe_early_gives_no_traceback():
+    import subprocess
+    import sys
+
+    cmd = (f"{sys.executable} -m posekit.cli check 'array([[1., 0., 0.], [0., 0., -1.], [0., 1., 0.]])' "
+           "| head -c 10 > /dev/null")
+    out = subprocess.run(["bash", "-o", "pipefail", "-c", cmd], capture_output=True, text=True, timeout=60)
+    assert "Traceback" not in out.stderr and out.stderr == ""
