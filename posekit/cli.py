@@ -70,7 +70,9 @@ def build_parser() -> argparse.ArgumentParser:
     k.add_argument("numbers", help="numbers as pasted, or - for standard input")
     k.add_argument("--json", action="store_true", help="print JSON")
 
-    sub.add_parser("tour", help="open the notebook tour (or run the terminal demo when there is none)")
+    tour = sub.add_parser("tour", help="open the notebook tour (or run the terminal demo when there is none)")
+    tour.add_argument("--print-command", action="store_true",
+                      help="print the command that would open the tour, and do not run it")
     return p
 
 
@@ -183,7 +185,7 @@ def _check(args) -> tuple[dict, str]:
     return parsed.as_dict(), parsed.summary()
 
 
-def _tour() -> int:
+def _tour(print_only: bool = False) -> int:
     here = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
     found = [p for p in (os.path.join(os.getcwd(), "notebooks", "tour.ipynb"),
                          os.path.join(here, "notebooks", "tour.ipynb")) if os.path.exists(p)]
@@ -195,8 +197,12 @@ def _tour() -> int:
         if shutil.which("jupyter") is None and not _has_module("jupyterlab"):
             print("posekit: error: the notebook tour needs jupyterlab; install posekit[notebook]", file=sys.stderr)
             return 3
-        return subprocess.call(cmd)
-    return subprocess.call([sys.executable, "-m", "posekit.demo"])
+    else:
+        cmd = [sys.executable, "-m", "posekit.demo"]
+    if print_only:
+        print(" ".join(cmd))
+        return 0
+    return subprocess.call(cmd)
 
 
 def _has_module(name: str) -> bool:
@@ -211,7 +217,7 @@ def main(argv=None) -> int:
     args = parser.parse_args(argv)
     try:
         if args.verb == "tour":
-            return _tour()
+            return _tour(args.print_command)
         handler = {"diagnose": _diagnose, "convert": _convert, "check": _check}[args.verb]
         data, text = handler(args)
     except PoseInputError as exc:

@@ -135,11 +135,23 @@ def test_main_is_importable_and_returns_codes(capsys):
     assert "no pose representation" in capsys.readouterr().err
 
 
-@pytest.mark.skipif((ROOT / "notebooks" / "tour.ipynb").exists(), reason="would open JupyterLab")
-def test_tour_without_a_notebook_runs_the_terminal_demo():
-    proc = run("tour")
+def test_tour_opens_jupyterlab_on_the_tour_notebook():
+    import os
+
+    proc = run("tour", "--print-command")
     assert proc.returncode == 0, proc.stderr
-    assert "posekit demo" in proc.stdout
+    assert "-m jupyter lab" in proc.stdout and proc.stdout.strip().split()[4].endswith("notebooks/tour.ipynb")
+    assert ("--allow-root" in proc.stdout) == (os.geteuid() == 0)  # JupyterLab refuses root without it
+
+
+def test_terminal_demo_runs():
+    import subprocess
+    import sys
+
+    proc = subprocess.run([sys.executable, "-m", "posekit.demo"], capture_output=True, text=True, timeout=60)
+    assert proc.returncode == 0, proc.stderr
+    assert "Traceback" not in proc.stderr
+    assert "off by" in proc.stdout and "Caution" in proc.stdout
 
 
 def test_reader_closing_the_pipe_early_gives_no_traceback():
