@@ -46,7 +46,18 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
     """
     r = checked_matrix(rotation)
     v = as_numbers(vectors, "vectors", (3,))
-    return np.matmul(r, v[..., None])[..., 0]
+    if r.shape[:-2] != v.shape[:-1]:
+        return np.matmul(r, v[..., None])[..., 0]
+    flat_r, lead = rot._rows(r, 9)
+    flat_v, _ = rot._rows(v, 3)
+    return rot._blocked(_turn_block, 3, flat_r, flat_v).reshape(lead + (3,))
+
+
+def _turn_block(out, m, v):
+    x, y, z = v[:, 0], v[:, 1], v[:, 2]
+    out[:, 0] = m[:, 0] * x + m[:, 1] * y + m[:, 2] * z
+    out[:, 1] = m[:, 3] * x + m[:, 4] * y + m[:, 5] * z
+    out[:, 2] = m[:, 6] * x + m[:, 7] * y + m[:, 8] * z
 
 
 def angle_between(a, b) -> np.ndarray:
