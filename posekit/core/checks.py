@@ -146,6 +146,14 @@ def checked_matrix(value, name: str = "rotation matrix", tolerance: float = ORTH
         err, det = _gram_and_det(m)
     else:
         err, det = orthonormality_error(m), np.linalg.det(m)
+    raise_unless_rotation(m, err, det, name, tolerance)
+    return m
+
+
+def raise_unless_rotation(m, err, det, name: str = "rotation matrix",
+                          tolerance: float = ORTHONORMAL_TOLERANCE) -> None:
+    """Raise the typed error of :func:`checked_matrix` given precomputed ``err`` and ``det`` ``(...)``."""
+    size = m.shape[-1]
     if np.any(err > tolerance):
         where = _first_bad(err > tolerance)
         worst = float(np.max(err))
@@ -164,7 +172,6 @@ def checked_matrix(value, name: str = "rotation matrix", tolerance: float = ORTH
             f"{name}: determinant is -1{' at index ' + str(where) if where else ''}: this is a reflection "
             "(a handedness flip, e.g. one axis negated or a left-handed frame), not a rotation. "
             "Expected det +1; if the data really is left-handed, state the axis flip explicitly")
-    return m
 
 
 def checked_quaternion(value, name: str = "quaternion", tolerance: float = UNIT_TOLERANCE,

@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import rotation as rot
-from .checks import as_numbers, checked_matrix
+from .checks import _gram_and_det_block, as_numbers, checked_matrix, raise_unless_rotation
 
 __all__ = ["compose", "invert", "turn_vectors", "angle_between", "slerp"]
 
@@ -44,16 +44,20 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
     >>> np.round(turn_vectors(E("z", np.pi / 2), [1, 0, 0]), 12).tolist()
     [0.0, 1.0, 0.0]
     """
-    r = checked_matrix(rotation)
+    r = as_numbers(rotation, "rotation matrix", (3, 3))
     v = as_numbers(vectors, "vectors", (3,))
     if r.shape[:-2] != v.shape[:-1]:
-        return np.matmul(r, v[..., None])[..., 0]
+        return np.matmul(checked_matrix(r), v[..., None])[..., 0]
+    # one pass checks the matrices (as checked_matrix does) and turns the vectors
     flat_r, lead = rot._rows(r, 9)
     flat_v, _ = rot._rows(v, 3)
-    return rot._blocked(_turn_block, 3, flat_r, flat_v).reshape(lead + (3,))
+    res = rot._blocked(_check_and_turn_block, 5, flat_r, flat_v)
+    raise_unless_rotation(r, res[:, 3].reshape(lead), res[:, 4].reshape(lead))
+    return np.ascontiguousarray(res[:, :3]).reshape(lead + (3,))
 
 
-def _turn_block(out, m, v):
+def _check_and_turn_block(out, m, v):
+    _gram_and_det_block(out[:, 3:], m)
     x, y, z = v[:, 0], v[:, 1], v[:, 2]
     out[:, 0] = m[:, 0] * x + m[:, 1] * y + m[:, 2] * z
     out[:, 1] = m[:, 3] * x + m[:, 4] * y + m[:, 5] * z

@@ -191,15 +191,26 @@ def _quaternion_of_matrix_block(out, f):
     m00, m01, m02, m10, m11, m12, m20, m21, m22 = (f[:, i] for i in range(9))
     tr = m00 + m11 + m22
     lo = 1.0 - tr
-    d0, d1, d2, d3 = 1.0 + tr, lo + 2.0 * m00, lo + 2.0 * m11, lo + 2.0 * m22
-    wx, wy, wz = m21 - m12, m02 - m20, m10 - m01
-    xy, xz, yz = m01 + m10, m02 + m20, m12 + m21
-    k = np.stack([d0, wx, wy, wz, wx, d1, xy, xz, wy, xy, d2, yz, wz, xz, yz, d3], axis=-1).reshape(-1, 4, 4)
-    pick = np.argmax(np.stack([d0, d1, d2, d3], axis=-1), axis=-1)
-    col = k[np.arange(k.shape[0]), pick]  # row = column, K is symmetric
-    inv = 1.0 / np.sqrt(np.einsum("ij,ij->i", col, col))
-    np.negative(inv, out=inv, where=col[:, 0] < 0)  # canonical sign: w >= 0 (double cover)
-    np.multiply(col, inv[:, None], out=out)
+    d0, d1, d2, d3 = 1.0 + tr, lo + 2.0 * m00, lo + 2.0 * m11, lo + 2.0 * m22  # 4 q_k^2
+    wx, wy, wz = m21 - m12, m02 - m20, m10 - m01  # 4 w x, 4 w y, 4 w z
+    xy, xz, yz = m01 + m10, m02 + m20, m12 + m21  # 4 x y, 4 x z, 4 y z
+    pick1 = d1 > d0
+    top = np.maximum(d0, d1)
+    pick2 = d2 > top
+    top = np.maximum(top, d2)
+    pick3 = d3 > top
+    pick2 &= ~pick3
+    pick1 &= ~(pick2 | pick3)
+    w = np.where(pick3, wz, np.where(pick2, wy, np.where(pick1, wx, d0)))
+    x = np.where(pick3, xz, np.where(pick2, xy, np.where(pick1, d1, wx)))
+    y = np.where(pick3, yz, np.where(pick2, d2, np.where(pick1, xy, wy)))
+    z = np.where(pick3, d3, np.where(pick2, yz, np.where(pick1, xz, wz)))
+    inv = 1.0 / np.sqrt(w * w + x * x + y * y + z * z)
+    np.negative(inv, out=inv, where=w < 0)  # canonical sign: w >= 0 (double cover)
+    out[:, 0] = w * inv
+    out[:, 1] = x * inv
+    out[:, 2] = y * inv
+    out[:, 3] = z * inv
 
 
 def _axes(sequence: str) -> tuple[int, int, int]:
