@@ -42,16 +42,8 @@ ORTHONORMAL_TOLERANCE = 1e-6
 UNIT_TOLERANCE = 1e-6
 
 
-def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.ndarray:
-    """Turn ``value`` into a float64 array, or raise a typed error.
-
-    ``trailing`` is the required shape of the last axes, e.g. ``(3, 3)``; leading
-    axes are free (batches).  Rejects strings, None, booleans, ragged lists, complex
-    numbers, empty input, NaN and infinity.
-
-    >>> as_numbers([1, 2, 3], "angles", (3,)).dtype
-    dtype('float64')
-    """
+def _numbers_of_anything(value, name: str, trailing):
+    """The type checks of :func:`as_numbers` for anything but a float64 array -> float64 array."""
     if value is None:
         raise WrongTypeError(f"{name}: got None; expected numbers, e.g. a list or numpy array"
                              + (f" with last axes of shape {trailing}" if trailing else ""))
@@ -78,7 +70,23 @@ def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.
         raise WrongTypeError(f"{name}: got text items {summarise(arr)}; expected numbers")
     if arr.dtype.kind not in "iuf":
         raise WrongTypeError(f"{name}: got items of type {arr.dtype}; expected real numbers")
-    arr = np.asarray(arr, dtype=np.float64)
+    return np.asarray(arr, dtype=np.float64)
+
+
+def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.ndarray:
+    """Turn ``value`` into a float64 array, or raise a typed error.
+
+    ``trailing`` is the required shape of the last axes, e.g. ``(3, 3)``; leading
+    axes are free (batches).  Rejects strings, None, booleans, ragged lists, complex
+    numbers, empty input, NaN and infinity.
+
+    >>> as_numbers([1, 2, 3], "angles", (3,)).dtype
+    dtype('float64')
+    """
+    if type(value) is np.ndarray and value.dtype == np.float64:
+        arr = value  # the common case: skip the type checks below
+    else:
+        arr = _numbers_of_anything(value, name, trailing)
     if arr.size == 0:
         raise WrongShapeError(f"{name}: got an empty input of shape {arr.shape}; expected "
                               + (f"shape (..., {', '.join(map(str, trailing))})" if trailing else "numbers"))
@@ -114,6 +122,9 @@ def _gram_and_det_block(out, f):
 
 def _gram_and_det(m: np.ndarray):
     """``(..., 3, 3)`` -> (orthonormality error ``(...)``, determinant ``(...)``), one blocked pass."""
+    if m.size <= 9 * 64:  # small batches: fewer, whole-array numpy calls beat the per-entry formulas
+        g = np.matmul(np.swapaxes(m, -1, -2), m) - np.eye(3)
+        return np.sqrt(np.einsum("...ij,...ij->...", g, g)), np.linalg.det(m)
     flat, lead = _rows(m, 9)
     res = _blocked(_gram_and_det_block, 2, flat)
     return res[:, 0].reshape(lead), res[:, 1].reshape(lead)
@@ -154,7 +165,7 @@ def raise_unless_rotation(m, err, det, name: str = "rotation matrix",
                           tolerance: float = ORTHONORMAL_TOLERANCE) -> None:
     """Raise the typed error of :func:`checked_matrix` given precomputed ``err`` and ``det`` ``(...)``."""
     size = m.shape[-1]
-    if np.any(err > tolerance):
+    if (err > tolerance).any():
         where = _first_bad(err > tolerance)
         worst = float(np.max(err))
         d = float(det[where]) if where else float(det)
@@ -166,7 +177,7 @@ def raise_unless_rotation(m, err, det, name: str = "rotation matrix",
             f"|M^T M - I| = {worst:.3g} (tolerance {tolerance:g}){scale}. A rotation matrix must have "
             "orthonormal columns and det +1; use posekit.nearest_rotation to project a noisy matrix "
             "and see how far it moves")
-    if np.any(det < 0):
+    if (det < 0).any():
         where = _first_bad(det < 0)
         raise ReflectionError(
             f"{name}: determinant is -1{' at index ' + str(where) if where else ''}: this is a reflection "
