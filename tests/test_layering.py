@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import ast
 import json
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -20,7 +21,7 @@ def test_import_posekit_loads_no_scipy_plotly_or_ipywidgets():
     code = ("import json, sys; import posekit; "
             "print(json.dumps(sorted({m.split('.')[0] for m in sys.modules})))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True,
-                         env={"PYTHONPATH": str(ROOT), "PATH": "/usr/bin:/bin"})
+                         env={**os.environ, "PYTHONPATH": str(ROOT)})  # environment kept as is
     loaded = set(json.loads(out.stdout))
     assert "posekit" in loaded and "numpy" in loaded
     assert not loaded & set(FORBIDDEN_AT_IMPORT), sorted(loaded & set(FORBIDDEN_AT_IMPORT))
