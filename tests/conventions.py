@@ -24,7 +24,7 @@ import pytest
 from hypothesis import HealthCheck, settings
 
 from posekit.core.convention import CHOICES, Convention
-from posekit.core.rotation import PROPER_EULER
+from posekit.core.rotation import PROPER_EULER, SMALL_BATCH
 
 #: The two fields tests are parametrised over; every other field is looped over inside.
 PAIR_FIELDS = ("sequence", "axes")
@@ -34,8 +34,14 @@ OTHER_FIELDS = tuple(k for k in CHOICES if k not in PAIR_FIELDS)
 #: All (sequence, axes) pairs, e.g. ("z-y-x", "intrinsic"); 24 today.
 PAIRS = tuple(itertools.product(CHOICES["sequence"], CHOICES["axes"]))
 
-#: Leading batch shapes every law is exercised with (scalar, a vector of poses, a grid).
-BATCH_SHAPES = ((), (5,), (2, 3))
+#: Leading batch shapes every law is exercised with: a scalar, a vector of poses, a grid, and a
+#: batch longer than the core's small-batch threshold (so the blocked kernels meet every law).
+BATCH_SHAPES = ((), (5,), (2, 3), (SMALL_BATCH + 16,))
+
+
+#: Batch lengths on both sides of the core's small-batch threshold, so both kernel routes
+#: (plain whole-array calls, and the blocked tangent-half-angle formulas) meet every law that uses them.
+KERNEL_SIZES = (SMALL_BATCH // 2, SMALL_BATCH + 16)
 
 
 def pair_id(pair) -> str:

@@ -23,7 +23,7 @@ from .errors import (
     ZeroQuaternionError,
     summarise,
 )
-from .rotation import _blocked, _rows
+from .rotation import SMALL_BATCH, _blocked, _rows
 
 __all__ = [
     "ORTHONORMAL_TOLERANCE",
@@ -107,6 +107,10 @@ def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.
     return arr
 
 
+_EYE3 = np.eye(3)
+_EYE3.setflags(write=False)
+
+
 def _gram_and_det_block(out, f):
     """Per 3x3 row of ``f (n, 9)``: ``|M^T M - I|_F`` and ``det M`` (cofactor expansion)."""
     m00, m01, m02, m10, m11, m12, m20, m21, m22 = (f[:, i] for i in range(9))
@@ -122,8 +126,8 @@ def _gram_and_det_block(out, f):
 
 def _gram_and_det(m: np.ndarray):
     """``(..., 3, 3)`` -> (orthonormality error ``(...)``, determinant ``(...)``), one blocked pass."""
-    if m.size <= 9 * 64:  # small batches: fewer, whole-array numpy calls beat the per-entry formulas
-        g = np.matmul(np.swapaxes(m, -1, -2), m) - np.eye(3)
+    if m.size <= 9 * SMALL_BATCH:  # small batches: fewer, whole-array numpy calls beat the per-entry formulas
+        g = np.matmul(np.swapaxes(m, -1, -2), m) - _EYE3
         return np.sqrt(np.einsum("...ij,...ij->...", g, g)), np.linalg.det(m)
     flat, lead = _rows(m, 9)
     res = _blocked(_gram_and_det_block, 2, flat)

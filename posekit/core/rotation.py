@@ -62,6 +62,8 @@ POLE_SNAP = 1e-14
 #: Rows per block in the blocked kernels below: a block's temporaries stay in the CPU
 #: cache, which is several times faster than whole-array numpy passes for 1e6 rows.
 BLOCK = 8192
+#: Up to this many rows, kernels take the plain route with fewer numpy calls (tests cover both).
+SMALL_BATCH = 64
 
 
 def _rows(a, width: int):
@@ -248,6 +250,9 @@ def _half_angle_parts(angle):
     cos = (1 - t^2) / (1 + t^2) and sin = 2 t / (1 + t^2) (the tangent half-angle
     substitution, common practice).  numpy's tan is vectorised where sin/cos are not,
     so this is several times faster than calling both; accuracy is a few ulp."""
+    if angle.size <= SMALL_BATCH:  # small batches: two plain calls are cheaper than the six below
+        half = 0.5 * angle
+        return np.cos(half), np.sin(half)
     t = np.tan(0.25 * angle)
     np.clip(t, -1e150, 1e150, out=t)  # keeps t * t finite; beyond it sin is 0 to 1e-150
     t2 = t * t
