@@ -234,7 +234,7 @@ def quaternion_product(p, q, convention=None):
     JPL: ``p ⊗ q`` equals the Hamilton product ``q ⊗ p`` of the same numbers
     (Sommer et al., Aerospace 5(3):72, 2018).
 
-    >>> quaternion_product([1, 0, 0, 0], [0, 0, 1, 0], "scalar=last").tolist()   # i j = k, scalar last
+    >>> quaternion_product([1, 0, 0, 0], [0, 1, 0, 0], "scalar=last").tolist()   # i j = k, scalar last
     [0.0, 0.0, 1.0, 0.0]
     """
     conv = as_convention(convention)
