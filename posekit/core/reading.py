@@ -78,7 +78,7 @@ def _quaternion_in(numbers, conv: Convention, normalise: bool, tolerance: float)
     q = checked_quaternion(numbers, "quaternion", tolerance=tolerance, normalise=normalise)
     if conv.scalar == "last":
         q = np.concatenate([q[..., 3:], q[..., :3]], axis=-1)
-    return q / np.sqrt(np.einsum("...i,...i->...", q, q))[..., None]
+    return q  # within the unit tolerance; matrix_of_quaternion divides the length out
 
 
 def _canonical_quaternion(numbers, kind: str, conv: Convention, normalise: bool, tolerance: float):

@@ -109,9 +109,16 @@ def _product_parts(p, q):
             _term_sum([(1, pw, qz), (1, px, qy), (-1, py, qx), (1, pz, qw)])]
 
 
-def _write_matrix_of_parts(out, w, x, y, z):
-    """Fill ``out (n, 9)`` with the active matrix of quaternion components (Shuster 1993, Hamilton form)."""
-    x2, y2, z2 = x + x, y + y, z + z
+def _write_matrix_of_parts(out, w, x, y, z, normalise: bool = False):
+    """Fill ``out (n, 9)`` with the active matrix of quaternion components (Shuster 1993, Hamilton form).
+
+    ``normalise=True`` uses the homogeneous form (every product scaled by 2 / |q|^2), which
+    divides the length out in the same pass."""
+    if normalise:
+        s = 2.0 / (w * w + x * x + y * y + z * z)
+        x2, y2, z2 = x * s, y * s, z * s
+    else:
+        x2, y2, z2 = x + x, y + y, z + z
     xx, yy, zz = x * x2, y * y2, z * z2
     xy, xz, yz = x * y2, x * z2, y * z2
     wx, wy, wz = w * x2, w * y2, w * z2
@@ -165,13 +172,14 @@ def canonical_sign(q):
 def matrix_of_quaternion(q):
     """Active rotation matrix of unit Hamilton quaternions: ``(..., 4) -> (..., 3, 3)``.
 
+    A length a rounding error off 1 is divided out in the same pass (homogeneous form).
     ``R v`` equals the vector part of ``q ⊗ (0, v) ⊗ q*`` (Shuster 1993, Hamilton form).
 
     >>> np.round(matrix_of_quaternion([np.cos(np.pi/4), 0, 0, np.sin(np.pi/4)]), 12).tolist()
     [[0.0, -1.0, 0.0], [1.0, 0.0, 0.0], [0.0, 0.0, 1.0]]
     """
     flat, lead = _rows(q, 4)
-    out = _blocked(lambda o, f: _write_matrix_of_parts(o, f[:, 0], f[:, 1], f[:, 2], f[:, 3]), 9, flat)
+    out = _blocked(lambda o, f: _write_matrix_of_parts(o, f[:, 0], f[:, 1], f[:, 2], f[:, 3], True), 9, flat)
     return out.reshape(lead + (3, 3))
 
 
