@@ -113,7 +113,8 @@ _EYE3.setflags(write=False)
 
 def _gram_and_det_block(out, f):
     """Per 3x3 row of ``f (n, 9)``: ``|M^T M - I|_F`` and ``det M`` (cofactor expansion)."""
-    m00, m01, m02, m10, m11, m12, m20, m21, m22 = (f[:, i] for i in range(9))
+    # entry-major copy of the block: contiguous operands run numpy's vectorised loops
+    m00, m01, m02, m10, m11, m12, m20, m21, m22 = f.T.copy()
     g00 = m00 * m00 + m10 * m10 + m20 * m20 - 1.0
     g11 = m01 * m01 + m11 * m11 + m21 * m21 - 1.0
     g22 = m02 * m02 + m12 * m12 + m22 * m22 - 1.0

@@ -58,10 +58,11 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
 
 def _check_and_turn_block(out, m, v):
     _gram_and_det_block(out[:, 3:], m)
-    x, y, z = v[:, 0], v[:, 1], v[:, 2]
-    out[:, 0] = m[:, 0] * x + m[:, 1] * y + m[:, 2] * z
-    out[:, 1] = m[:, 3] * x + m[:, 4] * y + m[:, 5] * z
-    out[:, 2] = m[:, 6] * x + m[:, 7] * y + m[:, 8] * z
+    m00, m01, m02, m10, m11, m12, m20, m21, m22 = m.T.copy()  # entry-major: contiguous operands
+    x, y, z = v.T.copy()
+    out[:, 0] = m00 * x + m01 * y + m02 * z
+    out[:, 1] = m10 * x + m11 * y + m12 * z
+    out[:, 2] = m20 * x + m21 * y + m22 * z
 
 
 def angle_between(a, b) -> np.ndarray:
