@@ -431,8 +431,10 @@ def rotvec_of_quaternion(q):
     theta = 2.0 * np.arctan2(vn, w)
     small = vn < 1e-8
     safe = np.where(small, 1.0, vn)
-    # theta / sin(theta/2), with sin(theta/2) = vn; series 2/w (1 + vn^2/(6 w^2)) near 0
-    scale = np.where(small, 2.0 / np.where(w == 0, 1.0, w) * (1.0 + vn * vn / 6.0), theta / safe)
+    # theta / sin(theta/2), with sin(theta/2) = vn and theta = 2 atan(vn / w):
+    # series (2 / w) (1 - vn^2 / (3 w^2)) near 0
+    w_safe = np.where(w == 0, 1.0, w)
+    scale = np.where(small, 2.0 / w_safe * (1.0 - vn * vn / (3.0 * w_safe * w_safe)), theta / safe)
     return q[..., 1:] * scale[..., None]
 
 
