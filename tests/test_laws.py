@@ -16,8 +16,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from conventions import (BATCH_SHAPES, HYPOTHESIS, HYPOTHESIS_BATCH, KERNEL_SIZES, PAIRS, all_conventions,
-                         conventions_for, is_proper, over_pairs, pole_values, random_euler, random_matrices, random_numbers,
-                         random_quaternions, random_vectors, shape_for)
+                         conventions_for, is_proper, over_pairs, pole_values, random_euler, random_matrices,
+                         random_numbers, random_quaternions, random_vectors, shape_for)
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
@@ -446,6 +446,17 @@ def test_exactly_at_pole_reads_back_documented_member(pair):
     _, dist = rot.euler_of_matrix(rot.matrix_of_euler(angles, seq, axes), seq, axes)
     want = np.pi / 2 - mids if not is_proper(pk.Convention(sequence=pair[0])) else np.minimum(mids, np.pi - mids)
     assert close(dist, want, atol=1e-12, rtol=0)
+
+
+def test_tiny_rotation_vectors_round_trip_to_relative_precision():
+    """Rotation vectors of 1e-15 .. 1e-5 rad come back with their own relative precision (series branches)."""
+    rng = np.random.default_rng(23)
+    axes = random_vectors(rng, (40,))
+    axes /= np.linalg.norm(axes, axis=-1, keepdims=True)
+    lengths = np.logspace(-15, -5, 40)
+    v = axes * lengths[:, None]
+    back = pk.write_rotation(pk.read_rotation(v, "rotation-vector"), "rotation-vector")
+    assert np.all(np.linalg.norm(back - v, axis=-1) <= 1e-14 * lengths + 1e-300)
 
 
 # --- quaternion <-> matrix near 180 degrees ---------------------------------------------

@@ -61,6 +61,7 @@ def test_core_imports_only_numpy_stdlib_and_core(path):
 
 def test_the_ast_check_can_fail(tmp_path):
     bad = tmp_path / "bad.py"
-    bad.write_text("import numpy\ndef f():\n    from scipy.spatial.transform import Rotation\n    from ..view import x\n")
+    bad.write_text("import numpy\ndef f():\n"
+                   "    from scipy.spatial.transform import Rotation\n    from ..view import x\n")
     found = list(_imports(bad))
     assert ("scipy.spatial.transform", 0) in found and ("view", 2) in found
