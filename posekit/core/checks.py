@@ -23,6 +23,7 @@ from .errors import (
     ZeroQuaternionError,
     summarise,
 )
+from .rotation import SMALL_BATCH, _blocked, _rows
 
 __all__ = [
     "ORTHONORMAL_TOLERANCE",
@@ -41,16 +42,8 @@ ORTHONORMAL_TOLERANCE = 1e-6
 UNIT_TOLERANCE = 1e-6
 
 
-def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.ndarray:
-    """Turn ``value`` into a float64 array, or raise a typed error.
-
-    ``trailing`` is the required shape of the last axes, e.g. ``(3, 3)``; leading
-    axes are free (batches).  Rejects strings, None, booleans, ragged lists, complex
-    numbers, empty input, NaN and infinity.
-
-    >>> as_numbers([1, 2, 3], "angles", (3,)).dtype
-    dtype('float64')
-    """
+def _numbers_of_anything(value, name: str, trailing):
+    """The type checks of :func:`as_numbers` for anything but a float64 array -> float64 array."""
     if value is None:
         raise WrongTypeError(f"{name}: got None; expected numbers, e.g. a list or numpy array"
                              + (f" with last axes of shape {trailing}" if trailing else ""))
@@ -77,7 +70,23 @@ def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.
         raise WrongTypeError(f"{name}: got text items {summarise(arr)}; expected numbers")
     if arr.dtype.kind not in "iuf":
         raise WrongTypeError(f"{name}: got items of type {arr.dtype}; expected real numbers")
-    arr = np.asarray(arr, dtype=np.float64)
+    return np.asarray(arr, dtype=np.float64)
+
+
+def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.ndarray:
+    """Turn ``value`` into a float64 array, or raise a typed error.
+
+    ``trailing`` is the required shape of the last axes, e.g. ``(3, 3)``; leading
+    axes are free (batches).  Rejects strings, None, booleans, ragged lists, complex
+    numbers, empty input, NaN and infinity.
+
+    >>> as_numbers([1, 2, 3], "angles", (3,)).dtype
+    dtype('float64')
+    """
+    if type(value) is np.ndarray and value.dtype == np.float64:
+        arr = value  # the common case: skip the type checks below
+    else:
+        arr = _numbers_of_anything(value, name, trailing)
     if arr.size == 0:
         raise WrongShapeError(f"{name}: got an empty input of shape {arr.shape}; expected "
                               + (f"shape (..., {', '.join(map(str, trailing))})" if trailing else "numbers"))
@@ -89,16 +98,48 @@ def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.
             if arr.size in (9, 16) and trailing in ((3, 3), (4, 4)):
                 hint = " (a flat list of numbers must be reshaped, stating row- or column-major layout)"
             raise WrongShapeError(f"{name}: got shape {arr.shape}; expected shape {want}{hint}")
-    if not np.all(np.isfinite(arr)):
+    # a finite sum proves every entry finite (NaN and inf propagate); only a non-finite sum
+    # (or an overflowing one) needs the elementwise look
+    if not np.isfinite(np.add.reduce(arr, axis=None)) and not np.all(np.isfinite(arr)):
         bad = np.argwhere(~np.isfinite(arr))[0]
         raise NotFiniteError(f"{name}: holds NaN or infinity (first at index {tuple(int(i) for i in bad)}, "
                              f"value {arr[tuple(bad)]}); expected finite numbers")
     return arr
 
 
+_EYE3 = np.eye(3)
+_EYE3.setflags(write=False)
+
+
+def _gram_and_det_block(out, f):
+    """Per 3x3 row of ``f (n, 9)``: ``|M^T M - I|_F`` and ``det M`` (cofactor expansion)."""
+    # entry-major copy of the block: contiguous operands run numpy's vectorised loops
+    m00, m01, m02, m10, m11, m12, m20, m21, m22 = f.T.copy()
+    g00 = m00 * m00 + m10 * m10 + m20 * m20 - 1.0
+    g11 = m01 * m01 + m11 * m11 + m21 * m21 - 1.0
+    g22 = m02 * m02 + m12 * m12 + m22 * m22 - 1.0
+    g01 = m00 * m01 + m10 * m11 + m20 * m21
+    g02 = m00 * m02 + m10 * m12 + m20 * m22
+    g12 = m01 * m02 + m11 * m12 + m21 * m22
+    out[:, 0] = np.sqrt(g00 * g00 + g11 * g11 + g22 * g22 + 2.0 * (g01 * g01 + g02 * g02 + g12 * g12))
+    out[:, 1] = m00 * (m11 * m22 - m12 * m21) - m01 * (m10 * m22 - m12 * m20) + m02 * (m10 * m21 - m11 * m20)
+
+
+def _gram_and_det(m: np.ndarray):
+    """``(..., 3, 3)`` -> (orthonormality error ``(...)``, determinant ``(...)``), one blocked pass."""
+    if m.size <= 9 * SMALL_BATCH:  # small batches: fewer, whole-array numpy calls beat the per-entry formulas
+        g = np.matmul(np.swapaxes(m, -1, -2), m) - _EYE3
+        return np.sqrt(np.einsum("...ij,...ij->...", g, g)), np.linalg.det(m)
+    flat, lead = _rows(m, 9)
+    res = _blocked(_gram_and_det_block, 2, flat)
+    return res[:, 0].reshape(lead), res[:, 1].reshape(lead)
+
+
 def orthonormality_error(matrix: np.ndarray) -> np.ndarray:
-    """Frobenius norm of ``M^T M - I`` for ``(..., 3, 3)`` -> ``(...)``."""
+    """Frobenius norm of ``M^T M - I`` for ``(..., n, n)`` -> ``(...)``."""
     m = np.asarray(matrix, dtype=np.float64)
+    if m.shape[-2:] == (3, 3):
+        return _gram_and_det(m)[0]
     g = np.swapaxes(m, -1, -2) @ m
     g = g - np.eye(m.shape[-1])
     return np.sqrt(np.sum(g * g, axis=(-2, -1)))
@@ -117,11 +158,21 @@ def checked_matrix(value, name: str = "rotation matrix", tolerance: float = ORTH
     :class:`ReflectionError` when the matrix is orthonormal but has det -1.
     """
     m = as_numbers(value, name, (size, size))
-    err = orthonormality_error(m)
-    if np.any(err > tolerance):
+    if size == 3:
+        err, det = _gram_and_det(m)
+    else:
+        err, det = orthonormality_error(m), np.linalg.det(m)
+    raise_unless_rotation(m, err, det, name, tolerance)
+    return m
+
+
+def raise_unless_rotation(m, err, det, name: str = "rotation matrix",
+                          tolerance: float = ORTHONORMAL_TOLERANCE) -> None:
+    """Raise the typed error of :func:`checked_matrix` given precomputed ``err`` and ``det`` ``(...)``."""
+    size = m.shape[-1]
+    if (err > tolerance).any():
         where = _first_bad(err > tolerance)
         worst = float(np.max(err))
-        det = np.linalg.det(m)
         d = float(det[where]) if where else float(det)
         scale = ""
         if abs(abs(d) ** (1.0 / size) - 1.0) > 1e-3:
@@ -131,14 +182,12 @@ def checked_matrix(value, name: str = "rotation matrix", tolerance: float = ORTH
             f"|M^T M - I| = {worst:.3g} (tolerance {tolerance:g}){scale}. A rotation matrix must have "
             "orthonormal columns and det +1; use posekit.nearest_rotation to project a noisy matrix "
             "and see how far it moves")
-    det = np.linalg.det(m)
-    if np.any(det < 0):
+    if (det < 0).any():
         where = _first_bad(det < 0)
         raise ReflectionError(
             f"{name}: determinant is -1{' at index ' + str(where) if where else ''}: this is a reflection "
             "(a handedness flip, e.g. one axis negated or a left-handed frame), not a rotation. "
             "Expected det +1; if the data really is left-handed, state the axis flip explicitly")
-    return m
 
 
 def checked_quaternion(value, name: str = "quaternion", tolerance: float = UNIT_TOLERANCE,
@@ -151,7 +200,7 @@ def checked_quaternion(value, name: str = "quaternion", tolerance: float = UNIT_
     divided by its length.
     """
     q = as_numbers(value, name, (4,))
-    n = np.sqrt(np.sum(q * q, axis=-1))
+    n = np.sqrt(np.einsum("...i,...i->...", q, q))
     if np.any(n < 1e-12):
         where = _first_bad(n < 1e-12)
         raise ZeroQuaternionError(f"{name}: has zero length{' at index ' + str(where) if where else ''}; "

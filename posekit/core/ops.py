@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import rotation as rot
-from .checks import as_numbers, checked_matrix
+from .checks import _gram_and_det_block, as_numbers, checked_matrix, raise_unless_rotation
 
 __all__ = ["compose", "invert", "turn_vectors", "angle_between", "slerp"]
 
@@ -44,9 +44,25 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
     >>> np.round(turn_vectors(E("z", np.pi / 2), [1, 0, 0]), 12).tolist()
     [0.0, 1.0, 0.0]
     """
-    r = checked_matrix(rotation)
+    r = as_numbers(rotation, "rotation matrix", (3, 3))
     v = as_numbers(vectors, "vectors", (3,))
-    return np.matmul(r, v[..., None])[..., 0]
+    if r.shape[:-2] != v.shape[:-1]:
+        return np.matmul(checked_matrix(r), v[..., None])[..., 0]
+    # one pass checks the matrices (as checked_matrix does) and turns the vectors
+    flat_r, lead = rot._rows(r, 9)
+    flat_v, _ = rot._rows(v, 3)
+    res = rot._blocked(_check_and_turn_block, 5, flat_r, flat_v)
+    raise_unless_rotation(r, res[:, 3].reshape(lead), res[:, 4].reshape(lead))
+    return np.ascontiguousarray(res[:, :3]).reshape(lead + (3,))
+
+
+def _check_and_turn_block(out, m, v):
+    _gram_and_det_block(out[:, 3:], m)
+    m00, m01, m02, m10, m11, m12, m20, m21, m22 = m.T.copy()  # entry-major: contiguous operands
+    x, y, z = v.T.copy()
+    out[:, 0] = m00 * x + m01 * y + m02 * z
+    out[:, 1] = m10 * x + m11 * y + m12 * z
+    out[:, 2] = m20 * x + m21 * y + m22 * z
 
 
 def angle_between(a, b) -> np.ndarray:

@@ -78,7 +78,7 @@ def _quaternion_in(numbers, conv: Convention, normalise: bool, tolerance: float)
     q = checked_quaternion(numbers, "quaternion", tolerance=tolerance, normalise=normalise)
     if conv.scalar == "last":
         q = np.concatenate([q[..., 3:], q[..., :3]], axis=-1)
-    return q / np.sqrt(np.sum(q * q, axis=-1))[..., None]
+    return q  # within the unit tolerance; matrix_of_quaternion divides the length out
 
 
 def _canonical_quaternion(numbers, kind: str, conv: Convention, normalise: bool, tolerance: float):
@@ -137,6 +137,13 @@ def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: 
         if conv.direction == "child-from-parent":
             m = np.swapaxes(m, -1, -2)
         return np.ascontiguousarray(m)
+    if kind == "euler":  # direct, without a batch of intermediate quaternions
+        a = as_numbers(numbers, "Euler angles", (3,))
+        scale = _angle_scale(conv)
+        m = rot.matrix_of_euler(a * scale if scale != 1.0 else a, conv.axes_letters, conv.intrinsic)
+        if _flip_count(conv, True, kind) % 2:
+            m = np.ascontiguousarray(np.swapaxes(m, -1, -2))
+        return m
     tol = UNIT_TOLERANCE if tolerance is None else tolerance
     q = _canonical_quaternion(numbers, kind, conv, normalise, tol)
     if _flip_count(conv, True, kind) % 2:
@@ -180,14 +187,14 @@ def write_rotation(matrix, kind: str = "quaternion", convention=None, *, flat: b
     q = rot.quaternion_of_matrix(m)
     if _flip_count(conv, True, kind) % 2:
         q = rot.conjugate(q)
-    if kind == "quaternion":
-        q = rot.canonical_sign(q)
+    if kind == "quaternion":  # quaternion_of_matrix gives w >= 0 and conjugation keeps w
         if conv.scalar == "last":
             q = np.concatenate([q[..., 1:], q[..., :1]], axis=-1)
         return q
     if kind == "euler":
         angles, _ = rot.euler_of_quaternion(q, conv.axes_letters, conv.intrinsic)
-        return _wrap_out(angles, conv, (0, 2)) / scale
+        angles = _wrap_out(angles, conv, (0, 2))
+        return angles / scale if scale != 1.0 else angles
     if kind == "rotation-vector":
         return rot.rotvec_of_quaternion(q) / scale
     if kind == "axis-angle":
@@ -227,7 +234,7 @@ def quaternion_product(p, q, convention=None):
     JPL: ``p ⊗ q`` equals the Hamilton product ``q ⊗ p`` of the same numbers
     (Sommer et al., Aerospace 5(3):72, 2018).
 
-    >>> quaternion_product([1, 0, 0, 0], [0, 0, 1, 0], "scalar=last").tolist()   # i j = k, scalar last
+    >>> quaternion_product([1, 0, 0, 0], [0, 1, 0, 0], "scalar=last").tolist()   # i j = k, scalar last
     [0.0, 0.0, 1.0, 0.0]
     """
     conv = as_convention(convention)
