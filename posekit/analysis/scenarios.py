@@ -7,7 +7,7 @@ four-wheeled rover that drives between tree rows.  Its frames:
 - ``base``: the rover body (x forward, y left, z up), on the ground between the wheels;
 - ``imu``: mounted upside down under the deck (turned 180 degrees about x);
 - ``camera``: on a mast at the front, tilted 12 degrees nose-down;
-- ``lidar``: on the roof, turned 3 degrees to the right;
+- ``lidar``: on the roof, left of centre, turned 3 degrees to the right;
 - ``antenna``: a GNSS antenna on a short pole at the back left.
 
 Two poses are known two ways, so the graph has two loops:
@@ -54,11 +54,11 @@ def orchard_rover() -> FrameGraph:
     >>> g.check_loops().suspects[0]
     3
     """
-    world_base = _pose(12.0, 4.5, 0.0, 35.0, 0.0, 0.0)
-    base_imu = _pose(0.10, 0.0, 0.25, 0.0, 0.0, 180.0)
-    base_camera = _pose(0.45, 0.0, 0.60, 0.0, 12.0, 0.0)
-    base_lidar = _pose(0.30, 0.0, 0.95, -3.0, 0.0, 0.0)
-    base_antenna = _pose(-0.20, 0.15, 1.10, 0.0, 0.0, 0.0)
+    world_base = _pose(1.6, 0.9, 0.0, 35.0, 0.0, 0.0)
+    base_imu = _pose(-0.10, -0.20, 0.30, 0.0, 0.0, 180.0)
+    base_camera = _pose(0.60, 0.0, 0.60, 0.0, 12.0, 0.0)
+    base_lidar = _pose(0.20, 0.25, 0.95, -3.0, 0.0, 0.0)
+    base_antenna = _pose(-0.35, 0.30, 1.10, 0.0, 0.0, 0.0)
     # calibration noise (invented): a 0.1 degree turn and a 2 mm shift
     noise_cal = _pose(0.002, -0.001, 0.0, 0.1, 0.0, 0.0)
     camera_lidar = invert_transform(base_camera) @ base_lidar @ noise_cal
@@ -91,11 +91,11 @@ def orchard_rover_planar() -> FrameGraph:
     3
     """
     deg = "unit=degrees"
-    world_base = make_planar(12.0, 4.5, 35.0, degrees=True)
-    base_imu = make_planar(0.10, 0.0, 0.0, degrees=True)
-    base_camera = make_planar(0.45, 0.0, 0.0, degrees=True)
-    base_lidar = make_planar(0.30, 0.0, -3.0, degrees=True)
-    base_antenna = make_planar(-0.20, 0.15, 0.0, degrees=True)
+    world_base = make_planar(1.6, 0.9, 35.0, degrees=True)
+    base_imu = make_planar(-0.10, -0.20, 0.0, degrees=True)
+    base_camera = make_planar(0.60, 0.0, 0.0, degrees=True)
+    base_lidar = make_planar(0.20, 0.25, -3.0, degrees=True)
+    base_antenna = make_planar(-0.35, 0.30, 0.0, degrees=True)
     camera_lidar = invert_transform(base_camera) @ base_lidar @ make_planar(0.002, -0.001, 0.1, degrees=True)
     world_antenna = world_base @ base_antenna @ make_planar(0.004, 0.0, 0.2, degrees=True)
 

@@ -3,3 +3,7 @@
 from .explorer import Explorer
 
 __all__ = ["Explorer"]
+
+from .graph import GraphExplorer  # noqa: E402
+
+__all__ += ["GraphExplorer"]
