@@ -203,6 +203,15 @@ def graph_figure(graph: FrameGraph, *, root: str | None = None, lookup: Lookup |
     fig = go.Figure(data=traces)
     low, high = facts["low"], facts["high"]
     if facts["planar"]:
+        # equal scales on both axes: widen the shorter span to the plot area's shape, so plotly
+        # need not cut either range to keep the aspect (a drawing choice, not math)
+        aspect = ((width or 860) - 80) / max(height - 100, 100)
+        low, high = low.copy(), high.copy()
+        span = high - low
+        for k, want in ((0, aspect * span[1]), (1, span[0] / aspect)):
+            if span[k] < want:
+                mid = 0.5 * (low[k] + high[k])
+                low[k], high[k] = mid - 0.5 * want, mid + 0.5 * want
         fig.update_layout(xaxis=dict(range=[float(low[0]), float(high[0])], title=f"{facts['root']} x",
                                      zeroline=False),
                           yaxis=dict(range=[float(low[1]), float(high[1])], title=f"{facts['root']} y",

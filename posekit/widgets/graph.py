@@ -326,13 +326,11 @@ class GraphExplorer(w.VBox):
         fresh = graph_figure(self.graph, root=self.root, lookup=look, palette=self.palette, height=self._height,
                              width=self._width, scale=self._scale)
         fig = self.figure
+        # whole traces are replaced (the figure is small), so names, letters and colours can
+        # never go stale; the layout's uirevision keeps the user's camera and zoom
+        fig.data = ()
+        fig.add_traces(list(fresh.data))
         with fig.batch_update():
-            if len(fig.data) != len(fresh.data):
-                fig.data = ()
-                fig.add_traces(list(fresh.data))
-            else:
-                for k, tr in enumerate(fresh.data):
-                    fig.data[k].update(tr.to_plotly_json())
             fig.layout.title.text = fresh.layout.title.text
             if self.graph.planar:
                 fig.layout.xaxis.range = fresh.layout.xaxis.range

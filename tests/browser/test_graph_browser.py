@@ -58,7 +58,8 @@ def _assert_same(got, want_xyz):
 def _wait_change(page, index, before):
     page.wait_for_function(
         "([sel, i, old]) => { const gd = document.querySelector(sel + ' .js-plotly-plot');"
-        " return gd && gd.data && JSON.stringify(Array.from(gd.data[i].x)) !== old; }",
+        " return !!(gd && gd.data && gd.data[i] && gd.data[i].x) &&"
+        " JSON.stringify(Array.from(gd.data[i].x)) !== old; }",
         arg=[SEL, index, json.dumps(before, separators=(",", ":"))], timeout=30_000)
 
 
