@@ -32,3 +32,13 @@ __all__ += ["parse_numbers", "interpret_numbers", "unit_judgement", "ParsedNumbe
             "PasteParseError", "NoInterpretationError", "diagnose", "diagnose_batch", "expected_pose",
             "pose_from_words", "axis_remaps", "describe_remap", "average_rotation", "Diagnosis", "BatchDiagnosis",
             "Explanation", "ExpectedPose", "ConstantOffset", "DescriptionError"]
+
+from .frames_graph import (DisagreeingEdgeError, DisconnectedFramesError, Edge, EdgeFix, FrameGraph,  # noqa: E402
+                           FrameGraphError, FrameNameError, FrameTree, Lookup, Loop, LoopCheck, LoopInTreeError,
+                           Placement, Readout, Step, UnknownFrameError, read_planar, write_planar)
+from .scenarios import orchard_rover, orchard_rover_planar  # noqa: E402
+
+__all__ += ["FrameGraph", "Edge", "Step", "Lookup", "Readout", "Placement", "FrameTree", "Loop", "EdgeFix",
+            "LoopCheck", "FrameGraphError", "UnknownFrameError", "FrameNameError", "DisconnectedFramesError",
+            "DisagreeingEdgeError", "LoopInTreeError", "read_planar", "write_planar", "orchard_rover",
+            "orchard_rover_planar"]

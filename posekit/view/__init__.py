@@ -3,3 +3,7 @@
 from .frames import PALETTES, body_trace, frame_figure, frame_points, frame_trace, planar_figure
 
 __all__ = ["PALETTES", "body_trace", "frame_figure", "frame_points", "frame_trace", "planar_figure"]
+
+from .graph import graph_figure, loop_check_html, readout_html  # noqa: E402
+
+__all__ += ["graph_figure", "readout_html", "loop_check_html"]

@@ -4,3 +4,7 @@ from .explorer import Explorer
 from .planar import PlanarExplorer
 
 __all__ = ["Explorer", "PlanarExplorer"]
+
+from .graph import GraphExplorer  # noqa: E402
+
+__all__ += ["GraphExplorer"]

@@ -1,0 +1,345 @@
+"""The frame-graph widget: pick two frames, see the transform between them every way, fix edges.
+
+Glue only.  The state is a handful of traitlets - ``graph`` (an immutable
+:class:`~posekit.analysis.FrameGraph`), ``from_frame``, ``into_frame``, ``root``,
+``edge``, ``readout_convention``, ``palette`` - and everything shown is recomputed from
+them by posekit's analysis (lookups, readouts, loop checks) and view (figure, HTML).
+Every control is a native select, button or toggle, so the widget works from the
+keyboard (Tab to a control; arrow keys in a list; Space or Enter on a button).
+"""
+
+from __future__ import annotations
+
+import anywidget
+import ipywidgets as w
+import plotly.graph_objects as go
+import traitlets as t
+
+from ..analysis.frames_graph import FrameGraph, convention_words
+from ..core.convention import Convention
+from ..core.errors import PoseInputError, WrongTypeError
+from ..core.reading import as_convention
+from ..view.graph import graph_figure, graph_traces, loop_check_html, readout_html
+from ..view.readouts import words_html
+from .controls import ConventionBar
+
+__all__ = ["GraphExplorer", "EDGE_FIELDS", "KeyboardScope"]
+
+#: The convention settings that change how an edge of each kind is read.
+EDGE_FIELDS = {
+    "position-quaternion": ("direction", "scalar", "algebra", "action"),
+    "position-euler": ("direction", "sequence", "axes", "unit", "action"),
+    "position-heading": ("direction", "unit", "action"),
+    "matrix": ("direction", "layout"),
+}
+READOUT_FIELDS = ("direction", "sequence", "axes", "unit", "scalar", "algebra", "action", "layout")
+PLANAR_READOUT_FIELDS = ("direction", "unit", "action", "layout")
+
+
+class KeyboardScope(anywidget.AnyWidget):
+    """An empty element that keeps JupyterLab's notebook shortcuts off the enclosing widget's controls.
+
+    In JupyterLab's command mode ArrowUp/ArrowDown and many letters are notebook
+    shortcuts, so a focused list box would not move its choice (ArrowDown jumps to the
+    next cell instead).  Lumino skips shortcut matching from an element marked
+    ``data-lm-suppress-shortcuts`` upwards; this marks every select, button and input
+    inside the nearest ancestor matching ``scope`` (a CSS selector), now and as the
+    controls are rebuilt.
+    """
+
+    _esm = """
+    export default {
+      render({ model, el }) {
+        let inner = null;
+        const markAll = (host) => host.querySelectorAll("select, button, input").forEach(
+          (n) => { if (!n.hasAttribute("data-lm-suppress-shortcuts")) n.setAttribute("data-lm-suppress-shortcuts", "true"); });
+        const start = () => {
+          const host = el.closest(model.get("scope"));
+          if (!host) return false;
+          markAll(host);
+          inner = new MutationObserver(() => markAll(host));
+          inner.observe(host, { childList: true, subtree: true });
+          return true;
+        };
+        if (start()) return () => inner.disconnect();
+        const outer = new MutationObserver(() => { if (start()) outer.disconnect(); });
+        outer.observe(document.body, { childList: true, subtree: true });
+        return () => { outer.disconnect(); if (inner) inner.disconnect(); };
+      }
+    };
+    """
+    scope = t.Unicode(".posekit-graph-explorer").tag(sync=True)
+
+
+def _edge_label(graph: FrameGraph, i: int) -> str:
+    e = graph.edges[i]
+    src = f" ({e.source})" if e.source else ""
+    return f"[{i}] {e.parent} \u2013 {e.child}{src}"
+
+
+class GraphExplorer(w.VBox):
+    """Browse a frame graph: the transform between any two frames, and every edge's reading.
+
+    >>> from posekit.analysis.scenarios import orchard_rover  # doctest: +SKIP
+    >>> GraphExplorer(orchard_rover(), from_frame="camera", into_frame="world", root="base")  # doctest: +SKIP
+    """
+
+    graph = t.Instance(FrameGraph)
+    from_frame = t.Unicode()
+    into_frame = t.Unicode()
+    root = t.Unicode()
+    edge = t.Int(0)
+    readout_convention = t.Unicode("sequence=z-y-x unit=degrees")
+    palette = t.Unicode("standard")
+
+    def __init__(self, graph: FrameGraph, from_frame: str | None = None, into_frame: str | None = None,
+                 root: str | None = None, readout_convention="sequence=z-y-x unit=degrees",
+                 palette: str = "standard", height: int = 520, width: int = 860, scale: float | None = None):
+        if not isinstance(graph, FrameGraph):
+            raise WrongTypeError(f"GraphExplorer: got {type(graph).__name__}; expected a posekit FrameGraph")
+        if len(graph.frames) < 2:
+            raise PoseInputError(f"GraphExplorer: the graph has {len(graph.frames)} frame(s); it needs at least one "
+                                 "edge (two frames)")
+        frames = graph.frames
+        from_frame = frames[-1] if from_frame is None else from_frame
+        into_frame = frames[0] if into_frame is None else into_frame
+        root = frames[0] if root is None else root
+        look = graph.lookup(into_frame, from_frame)  # validates the names (typed errors) before building
+        graph.placement(root)
+        conv = as_convention(readout_convention)
+        self._original = graph
+        self._height = height
+        self._width = width
+        # the arrow length stays as first drawn, so flipping an edge does not rescale the scene
+        self._scale = graph_traces(graph, root=root, scale=scale)[1]["scale"]
+        self._syncing = False
+
+        options = list(frames)
+        self.from_choice = w.Dropdown(options=options, value=from_frame, description="coordinates in",
+                                      style={"description_width": "initial"}, layout=w.Layout(width="230px"))
+        self.from_choice.add_class("posekit-graph-from")
+        self.into_choice = w.Dropdown(options=options, value=into_frame, description="\u2192 into",
+                                      style={"description_width": "initial"}, layout=w.Layout(width="190px"))
+        self.into_choice.add_class("posekit-graph-into")
+        self.swap_button = w.Button(description="swap", tooltip="look up the other way round",
+                                    layout=w.Layout(width="70px"))
+        self.swap_button.add_class("posekit-graph-swap")
+        self.root_choice = w.Dropdown(options=options, value=root, description="draw in",
+                                      style={"description_width": "initial"}, layout=w.Layout(width="170px"))
+        self.root_choice.add_class("posekit-graph-root")
+        self.palette_choice = w.ToggleButtons(options=[("standard colours", "standard"),
+                                                       ("colour-blind safe", "colour-blind")], value=palette,
+                                              style=w.ToggleButtonsStyle(button_width="auto"))
+        self.palette_choice.add_class("posekit-graph-palette")
+
+        self.edge_choice = w.Dropdown(options=[(_edge_label(graph, i), i) for i in range(len(graph.edges))], value=0,
+                                      description="edge", style={"description_width": "initial"},
+                                      layout=w.Layout(width="300px"))
+        self.edge_choice.add_class("posekit-graph-edge")
+        self.flip_button = w.Button(description="flip its direction", icon="exchange",
+                                    tooltip="read the same numbers the other way round", layout=w.Layout(width="170px"))
+        self.flip_button.add_class("posekit-graph-flip")
+        self.fix_button = w.Button(description="apply the best fix", tooltip="apply the first single-edge fix listed",
+                                   layout=w.Layout(width="160px"))
+        self.fix_button.add_class("posekit-graph-apply-fix")
+        self.reset_button = w.Button(description="undo all edge changes", layout=w.Layout(width="180px"))
+        self.reset_button.add_class("posekit-graph-reset")
+        self.edge_words = w.HTML()
+        self.edge_words.add_class("posekit-graph-edge-words")
+        self.edge_box = w.Box(layout=w.Layout(width="100%"))
+        self.edge_bar: ConventionBar | None = None
+        self.status = w.HTML()
+        self.status.add_class("posekit-graph-status")
+
+        fields = PLANAR_READOUT_FIELDS if graph.planar else READOUT_FIELDS
+        self.readout_bar = ConventionBar(fields=fields, initial={f: getattr(conv, f) for f in fields})
+        self.readout_bar.add_class("posekit-graph-readout-convention")
+        self.readouts = w.HTML(layout=w.Layout(width="100%"))
+        self.readouts.add_class("posekit-graph-readouts")
+        self.loops_html = w.HTML(layout=w.Layout(width="100%"))
+        self.loops_html.add_class("posekit-graph-loops-box")
+
+        self.figure = go.FigureWidget(graph_figure(graph, root=root, lookup=look, palette=palette, height=height,
+                                                   width=width, scale=self._scale))
+        self.figure.add_class("posekit-graph-figure")
+
+        pick = w.VBox([w.HTML("<b>Look up</b> the transform between two frames"),
+                       w.HBox([self.from_choice, self.into_choice, self.swap_button]),
+                       w.HBox([self.root_choice, self.palette_choice])],
+                      layout=w.Layout(flex="1 1 430px", min_width="430px"))
+        edit = w.VBox([w.HTML("<b>Edges</b> as entered \u2014 change how one is read and watch the scene"),
+                       w.HBox([self.edge_choice, self.flip_button]), self.edge_words, self.edge_box,
+                       w.HBox([self.fix_button, self.reset_button]), self.status],
+                      layout=w.Layout(flex="1 1 440px", min_width="420px"))
+        controls = w.HBox([pick, edit], layout=w.Layout(flex_flow="row wrap", grid_gap="4px 16px", width="100%"))
+        below = w.VBox([self.loops_html, w.HTML("<b>Write the looked-up transform</b> under this convention"),
+                        self.readout_bar, self.readouts])
+        self.keyboard_scope = KeyboardScope(scope=".posekit-graph-explorer")
+        super().__init__([controls, w.Box([self.figure], layout=w.Layout(width="100%")), below,
+                          self.keyboard_scope])
+        self.add_class("posekit-graph-explorer")
+
+        with self.hold_trait_notifications():
+            self.graph = graph
+            self.from_frame = from_frame
+            self.into_frame = into_frame
+            self.root = root
+            self.edge = 0
+            self.readout_convention = conv.to_text()
+            self.palette = palette
+
+        self.from_choice.observe(lambda ch: self._set("from_frame", ch["new"]), "value")
+        self.into_choice.observe(lambda ch: self._set("into_frame", ch["new"]), "value")
+        self.root_choice.observe(lambda ch: self._set("root", ch["new"]), "value")
+        self.palette_choice.observe(lambda ch: self._set("palette", ch["new"]), "value")
+        self.edge_choice.observe(lambda ch: self._set("edge", ch["new"]), "value")
+        self.swap_button.on_click(lambda _: self.swap())
+        self.flip_button.on_click(lambda _: self.flip())
+        self.fix_button.on_click(lambda _: self.apply_best_fix())
+        self.reset_button.on_click(lambda _: self.reset())
+        for ctl in self.readout_bar.controls.values():
+            ctl.observe(self._on_readout_setting, "value")
+        self.observe(self._on_view, ["from_frame", "into_frame", "root", "palette", "readout_convention"])
+        self.observe(self._on_graph, ["graph"])
+        self.observe(self._on_edge, ["edge"])
+        self._build_edge_bar()
+        self._refresh()
+
+    # --- actions (also callable from code) ------------------------------------------------
+    def swap(self) -> None:
+        with self.hold_trait_notifications():
+            self.from_frame, self.into_frame = self.into_frame, self.from_frame
+
+    def flip(self, index: int | None = None) -> None:
+        """Read edge ``index`` (default: the selected one) the other way round."""
+        self.status.value = ""
+        self.graph = self.graph.flipped(self.edge if index is None else index)
+
+    def apply_best_fix(self) -> None:
+        check = self.graph.check_loops()
+        if not check.fixes:
+            self.status.value = words_html("No single-edge fix to apply: "
+                                           + ("every loop closes." if check.consistent else
+                                              "no single edge closes every loop."))
+            return
+        best = check.fixes[0]
+        self.graph = self.graph.replaced(best.edge, best.corrected)
+        self.edge = best.edge
+        self.status.value = words_html(f"Applied to edge {best.edge}: {best.words}. As code: {best.code}")
+
+    def reset(self) -> None:
+        self.graph = self._original
+        self.status.value = words_html("Every edge is back as first entered.")
+
+    def lookup(self):
+        """The :class:`~posekit.analysis.frames_graph.Lookup` the controls describe."""
+        return self.graph.lookup(self.into_frame, self.from_frame)
+
+    # --- observers --------------------------------------------------------------------------
+    def _set(self, name: str, value) -> None:
+        if not self._syncing and getattr(self, name) != value:
+            setattr(self, name, value)
+
+    def _on_readout_setting(self, change) -> None:
+        if self._syncing:
+            return
+        conv = Convention.parse(self.readout_convention).changed(**self.readout_bar.settings())
+        self.readout_convention = conv.to_text()
+
+    def _on_edge_setting(self, change) -> None:
+        if self._syncing or self.edge_bar is None:
+            return
+        e = self.graph.edges[self.edge]
+        new = e.convention.changed(**self.edge_bar.settings())
+        if new == e.convention:
+            return
+        try:
+            self.status.value = ""
+            self.graph = self.graph.with_convention(self.edge, new)
+        except PoseInputError as exc:
+            self.status.value = words_html(f"Edge {self.edge} cannot be read that way: {exc}")
+            self._sync_edge_bar()
+
+    def _on_view(self, change) -> None:
+        self._refresh()
+
+    def _on_graph(self, change) -> None:
+        self._sync_edge_bar()
+        self._refresh()
+
+    def _on_edge(self, change) -> None:
+        self._build_edge_bar()
+        self._refresh_edge_words()
+
+    # --- syncing controls --------------------------------------------------------------------
+    def _build_edge_bar(self) -> None:
+        e = self.graph.edges[self.edge]
+        fields = list(EDGE_FIELDS[e.kind])
+        if e.kind == "matrix" and len(e.numbers) and not isinstance(e.numbers[0], tuple):
+            pass  # flat numbers: layout matters
+        elif e.kind == "matrix":
+            fields.remove("layout")
+        self.edge_bar = ConventionBar(fields=tuple(fields), initial={f: getattr(e.convention, f) for f in fields})
+        self.edge_bar.add_class("posekit-graph-edge-convention")
+        for ctl in self.edge_bar.controls.values():
+            ctl.observe(self._on_edge_setting, "value")
+        self.edge_box.children = (self.edge_bar,)
+
+    def _sync_edge_bar(self) -> None:
+        self._syncing = True
+        try:
+            e = self.graph.edges[self.edge]
+            if self.edge_bar is not None:
+                self.edge_bar.set_settings({f: getattr(e.convention, f) for f in self.edge_bar.controls})
+            self.edge_choice.options = [(_edge_label(self.graph, i), i) for i in range(len(self.graph.edges))]
+            self.edge_choice.value = self.edge
+        finally:
+            self._syncing = False
+        self._refresh_edge_words()
+
+    def _refresh_edge_words(self) -> None:
+        e = self.graph.edges[self.edge]
+        changed = e != self._original.edges[self.edge]
+        note = " (changed from how it was first entered)" if changed else ""
+        flat = [v for row in e.numbers for v in (row if isinstance(row, tuple) else (row,))]
+        numbers = ", ".join(f"{v:.6g}" for v in flat)
+        self.edge_words.value = words_html(f"{len(flat)} {e.kind} numbers ({numbers}) under "
+                                           f"{convention_words(e.convention)}, read as {e.entered_words}{note}.")
+
+    def _sync_controls(self) -> None:
+        self._syncing = True
+        try:
+            for ctl, value in ((self.from_choice, self.from_frame), (self.into_choice, self.into_frame),
+                               (self.root_choice, self.root), (self.palette_choice, self.palette),
+                               (self.edge_choice, self.edge)):
+                if ctl.value != value:
+                    ctl.value = value
+            conv = Convention.parse(self.readout_convention)
+            self.readout_bar.set_settings({f: getattr(conv, f) for f in self.readout_bar.controls})
+        finally:
+            self._syncing = False
+
+    # --- drawing ------------------------------------------------------------------------------
+    def _refresh(self) -> None:
+        self._sync_controls()
+        look = self.lookup()
+        fresh = graph_figure(self.graph, root=self.root, lookup=look, palette=self.palette, height=self._height,
+                             width=self._width, scale=self._scale)
+        fig = self.figure
+        # whole traces are replaced (the figure is small), so names, letters and colours can
+        # never go stale; the layout's uirevision keeps the user's camera and zoom
+        fig.data = ()
+        fig.add_traces(list(fresh.data))
+        with fig.batch_update():
+            fig.layout.title.text = fresh.layout.title.text
+            if self.graph.planar:
+                fig.layout.xaxis.range = fresh.layout.xaxis.range
+                fig.layout.yaxis.range = fresh.layout.yaxis.range
+            else:
+                for ax in ("xaxis", "yaxis", "zaxis"):
+                    fig.layout.scene[ax].range = fresh.layout.scene[ax].range
+                    fig.layout.scene[ax].title.text = fresh.layout.scene[ax].title.text
+        conv = Convention.parse(self.readout_convention)
+        self.readouts.value = readout_html(look.readout(conv), look)
+        self.loops_html.value = loop_check_html(self.graph.check_loops(), self.graph)
+        self._refresh_edge_words()
