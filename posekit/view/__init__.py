@@ -3,3 +3,8 @@
 from .frames import PALETTES, body_trace, frame_figure, frame_points, frame_trace, planar_figure
 
 __all__ = ["PALETTES", "body_trace", "frame_figure", "frame_points", "frame_trace", "planar_figure"]
+from .diagnosis import error_html, parsed_html, residual_figure  # noqa: E402
+from .trajectory import FLAG_STYLES, FlaggedSpan, flagged_spans, row_rotation, trajectory_figure  # noqa: E402
+
+__all__ += ["error_html", "parsed_html", "residual_figure", "FLAG_STYLES", "FlaggedSpan", "flagged_spans",
+            "row_rotation", "trajectory_figure"]

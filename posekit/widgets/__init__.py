@@ -4,3 +4,9 @@ from .explorer import Explorer
 from .planar import PlanarExplorer
 
 __all__ = ["Explorer", "PlanarExplorer"]
+from .desk import DebugDesk  # noqa: E402
+
+__all__ += ["DebugDesk"]
+from .trajectory_view import TrajectoryView  # noqa: E402
+
+__all__ += ["TrajectoryView"]
