@@ -17,7 +17,7 @@ __all__ = ["residual_figure", "parsed_html", "error_html"]
 
 def residual_figure(rotation_residuals, translation_residuals=None, *, offset_rotation_residuals=None,
                     offset_translation_residuals=None, rotation_tolerance: float | None = None,
-                    height: int = 330) -> go.Figure:
+                    height: int = 330, width: int | None = None) -> go.Figure:
     """Residual per pose pair of the best explanation (and of the fitted offset, if any).
 
     ``rotation_residuals (N,)`` radians (drawn in degrees), ``translation_residuals
@@ -58,8 +58,8 @@ def residual_figure(rotation_residuals, translation_residuals=None, *, offset_ro
         fig.update_xaxes(title_text="pair", row=2, col=1)
     else:
         fig.update_xaxes(title_text="pair", row=1, col=1)
-    fig.update_layout(height=height, margin=dict(l=55, r=15, t=35, b=40), plot_bgcolor="#ffffff",
-                      legend=dict(orientation="h", y=-0.25 if has_t else -0.35, x=0.0), uirevision="posekit-residuals")
+    fig.update_layout(height=height, width=width, margin=dict(l=55, r=15, t=35, b=40), plot_bgcolor="#ffffff",
+                      legend=dict(orientation="h", y=-0.2 if has_t else -0.25, x=0.0), uirevision="posekit-residuals")
     fig.update_yaxes(gridcolor="#e5e5e5", zerolinecolor="#bbbbbb", rangemode="tozero")
     for ann in fig.layout.annotations:
         ann.font = dict(size=12, color="#333")

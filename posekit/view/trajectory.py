@@ -105,8 +105,8 @@ def _half_step(times: np.ndarray) -> float:
     return 0.5 * float(np.median(d)) if d.size else 0.5
 
 
-def trajectory_figure(report, *, spans=None, rate_limit: float | None = None, height: int = 720,
-                      title: str | None = None) -> go.Figure:
+def trajectory_figure(report, *, spans=None, rate_limit: float | None = None, height: int = 780,
+                      width: int | None = None, title: str | None = None) -> go.Figure:
     """The four-panel time-series figure of a :class:`~posekit.analysis.trajectory.TrajectoryReport`.
 
     ``spans``: the :func:`flagged_spans` to shade (default: all, up to
@@ -130,7 +130,7 @@ def trajectory_figure(report, *, spans=None, rate_limit: float | None = None, he
     big = t.size > 5000
     line = go.Scattergl if big else go.Scatter
     fig = make_subplots(rows=4, cols=1, shared_xaxes=True, vertical_spacing=0.035,
-                        row_heights=[0.34, 0.28, 0.24, 0.14],
+                        row_heights=[0.3, 0.25, 0.22, 0.23],
                         subplot_titles=(f"Euler readback, {conv.sequence} {conv.axes} ({unit})",
                                         "quaternion, sign made continuous" if report.quaternion is not None
                                         else "quaternion (only for quaternion input)",
@@ -163,14 +163,16 @@ def trajectory_figure(report, *, spans=None, rate_limit: float | None = None, he
     fig.add_trace(go.Scatter(x=ends, y=[limit] * len(ends), mode="lines", name="rate limit",
                              line=dict(color="#009E73", dash="dash", width=1.2), showlegend=limit is not None,
                              hoverinfo="name+y"), row=3, col=1)
-    half = _half_step(t)
+    finite_t = t[np.isfinite(t)]
+    whole = float(finite_t.max() - finite_t.min()) if finite_t.size else 1.0
+    half = max(_half_step(t), 0.003 * whole)  # a one-row span stays visible at any zoom-out
     kinds = [k for k in FLAG_STYLES]
     present = [k for k in kinds if any(s.finding == k for s in spans)]
     shapes = []
     for s in spans:
         word, colour, _ = FLAG_STYLES.get(s.finding, (s.finding, "#777777", "circle"))
         shapes.append(dict(type="rect", xref="x", yref="paper", x0=s.first_time - half, x1=s.last_time + half,
-                           y0=0.0, y1=1.0, fillcolor=colour, opacity=0.16, line=dict(width=0), layer="below"))
+                           y0=0.0, y1=1.0, fillcolor=colour, opacity=0.22, line=dict(width=0), layer="below"))
     for name in kinds:
         word, colour, symbol = FLAG_STYLES[name]
         idx = [i for i, s in enumerate(spans) if s.finding == name]
@@ -182,9 +184,10 @@ def trajectory_figure(report, *, spans=None, rate_limit: float | None = None, he
     shapes.append(dict(type="rect", xref="x", yref="paper", x0=0, x1=0, y0=0.0, y1=1.0, fillcolor="rgba(0,0,0,0)",
                        line=dict(width=2, color="#111111", dash="dot"), visible=False, name="highlight"))
     fig.layout.shapes = shapes
-    fig.update_layout(height=height, margin=dict(l=60, r=20, t=50 if title else 30, b=40),
+    fig.update_layout(height=height, width=width, margin=dict(l=110, r=10, t=50 if title else 30, b=45),
                       title=dict(text=title) if title else None, hovermode="closest", uirevision="posekit-trajectory",
-                      legend=dict(orientation="h", y=1.06, x=0.0, font=dict(size=11)),
+                      legend=dict(orientation="v", x=1.01, y=1.0, yanchor="top", font=dict(size=11),
+                                  traceorder="grouped", tracegroupgap=24),
                       plot_bgcolor="#ffffff")
     fig.update_yaxes(gridcolor="#e5e5e5", zerolinecolor="#bbbbbb")
     fig.update_xaxes(gridcolor="#eeeeee", showline=True, linecolor="#bbbbbb")

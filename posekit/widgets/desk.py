@@ -47,6 +47,7 @@ _EXPECTED, _BODY, _AS_READ, _CORRECTED = 1, 2, 3, 4
 _SOURCES = (("numbers", "numbers"), ("a description in words", "words"), ("a pose passed in", "pose"))
 
 DESK_CSS = """<style>
+.posekit-desk .widget-html-content { line-height: 1.35; }
 .posekit-desk .pk-ok { font-size: 12.5px; color: #1b4d1b; }
 .posekit-desk .pk-bad { font-size: 12.5px; color: #a50f15; font-weight: 600; }
 .posekit-desk pre.pk-caret { font-size: 12px; background: #fbf3f3; border: 1px solid #e6caca; padding: 4px 6px;
@@ -57,15 +58,17 @@ DESK_CSS = """<style>
 .posekit-desk table.pk-readings th { color: #666; font-weight: normal; }
 .posekit-desk-list .widget-radio-box { gap: 2px; }
 .posekit-desk-list .widget-radio-box label { white-space: normal !important; line-height: 1.35; height: auto;
-  padding: 4px 6px; border-radius: 3px; font-size: 12.5px; align-items: flex-start; }
+  padding: 4px 6px; border-radius: 3px; font-size: 12.5px; display: flex; flex-direction: row-reverse;
+  justify-content: flex-end; align-items: flex-start; gap: 6px; }
 .posekit-desk-list .widget-radio-box label:has(input:checked) { background: #eaf2fb; outline: 1px solid #9ec3e6; }
 .posekit-desk-list .widget-radio-box input { margin-top: 3px; flex: none; }
 .posekit-desk .pk-section { font-weight: 600; font-size: 13px; margin: 6px 0 2px 0; }
-.posekit-desk .pk-sentence { font-size: 13.5px; font-weight: 600; margin: 2px 0 4px 0; }
+.posekit-desk .pk-sentence { font-size: 13px; font-weight: 600; margin: 2px 0 4px 0; }
 .posekit-desk .pk-mark { display: inline-block; font-size: 11px; padding: 0 5px; border-radius: 3px;
   margin-right: 4px; border: 1px solid #999; color: #333; background: #f4f4f4; }
 .posekit-desk .pk-mark-tie { border-color: #c51b7d; color: #8e0152; background: #fde0ef; }
-.posekit-desk ul.pk-same { margin: 2px 0 4px 18px; padding: 0; font-size: 12px; color: #444; }
+.posekit-desk ul.pk-same { margin: 2px 0 4px 0; padding: 0 10px 0 18px; font-size: 12px; color: #444; }
+.posekit-desk-detail .widget-html-content { overflow-wrap: anywhere; padding-right: 10px; }
 .posekit-desk textarea { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 12.5px; }
 </style>"""
 
@@ -84,8 +87,7 @@ def _numbers_text(arr) -> str:
 def _marks(e, batch: bool) -> str:
     out = []
     if e.equivalents:
-        out.append(f"same numbers as {len(e.equivalents)} other explanation(s)"
-                   + ("" if batch else " from this one sample"))
+        out.append(f"{len(e.equivalents)} other{'s' if len(e.equivalents) > 1 else ''} give the same numbers")
     if e.near_tie:
         out.append("near tie")
     return "".join(f"  [{m}]" for m in out)
@@ -186,7 +188,7 @@ class DebugDesk(w.VBox):
                                              style=w.ToggleButtonsStyle(button_width="auto"))
         self.source_choice.add_class("posekit-desk-source")
         self.kind_choice = w.Dropdown(options=list(EXPECTED_KINDS), value=expected_kind, description="numbers are",
-                                      style={"description_width": "80px"}, layout=w.Layout(width="290px"))
+                                      style={"description_width": "92px"}, layout=w.Layout(width="310px"))
         self.kind_choice.add_class("posekit-desk-kind")
         self.expected_box = w.Textarea(value=expected_text, continuous_update=True,
                                        placeholder="e.g. 30 -10 0, or: pitched 25 degrees down, 0.3 m forward",
@@ -210,6 +212,7 @@ class DebugDesk(w.VBox):
         self.figure = go.FigureWidget(self._style_figure(fig))
         self.figure.add_class("posekit-desk-figure")
         self.figure_box = w.Box([self.figure], layout=w.Layout(width="100%"))
+        self.figure_box.add_class("posekit-desk-3d")
         self.residual_box = w.Box([], layout=w.Layout(width="100%", display="none"))
         self.residual_box.add_class("posekit-desk-residuals")
 
@@ -217,13 +220,13 @@ class DebugDesk(w.VBox):
                        self.paste_box, self.understood,
                        w.HTML("<div class='pk-section'>2. The pose you expected</div>"), self.source_choice,
                        self.kind_choice, self.expected_box, self.expected_words],
-                      layout=w.Layout(width="470px", min_width="470px", padding="0 14px 0 0"))
+                      layout=w.Layout(width="440px", min_width="440px", padding="0 14px 0 0"))
         right = w.VBox([w.HTML("<div class='pk-section'>3. Explanations, most likely first "
-                               "<span style='font-weight:normal;color:#666'>(arrow keys choose)</span></div>"),
+                               "<span style='font-weight:normal;color:#666'>(keyboard: Tab to one, Space chooses it)</span></div>"),
                         self.explanation_list, self.detail, self.figure_box, self.residual_box,
                         w.HTML("<div class='pk-section'>Corrected reading — copy into your code</div>"),
                         self.code_box, self.palette_choice],
-                       layout=w.Layout(flex="1 1 auto", min_width="420px"))
+                       layout=w.Layout(flex="1 1 0", min_width="0", overflow="hidden", padding="0 6px 0 0"))
         top = w.VBox([w.HTML("<div class='pk-section'>Your convention — how you wrote the expected numbers and "
                              "how you read the ones you got</div>"), self.bar])
         self.share = _DeskShare(self, "desk-state")
@@ -459,6 +462,9 @@ class DebugDesk(w.VBox):
                 self.understood.value = (f"<div class='pk-ok'>{len(rows)} pairs: {len(rows)} lines of "
                                          f"{rows[0].count} numbers each</div>") + parsed_html(rows[0], limit=4)
                 observed = np.stack([p.numbers for p in rows])
+            elif not self.pasted.strip():
+                self.understood.value = ("<div class='pk-words'>Nothing pasted yet: paste or type the numbers "
+                                         "above.</div>")
             else:
                 observed = parse_numbers(self.pasted)
                 self.understood.value = parsed_html(observed)
@@ -520,7 +526,7 @@ class DebugDesk(w.VBox):
             fig = residual_figure(d.rotation_residuals, d.translation_residuals,
                                   offset_rotation_residuals=None if off is None else off.residuals,
                                   offset_translation_residuals=None if off is None else off.translation_residuals,
-                                  rotation_tolerance=math.radians(0.5))
+                                  rotation_tolerance=math.radians(0.5), width=470)
             self.residual_figure = go.FigureWidget(fig)
             self.residual_box.children = [self.residual_figure]
 
@@ -556,8 +562,8 @@ class DebugDesk(w.VBox):
         batch = isinstance(d, BatchDiagnosis)
         marks = ""
         if e.equivalents:
-            marks += (f"<span class='pk-mark'>same numbers as {len(e.equivalents)} other explanation(s)"
-                      f"{'' if batch else ' from this one sample'}</span>")
+            marks += (f"<span class='pk-mark'>{len(e.equivalents)} other explanation(s) give the same numbers"
+                      f"{' for these pairs' if batch else ' from this one sample'}</span>")
         if e.near_tie:
             marks += "<span class='pk-mark pk-mark-tie'>near tie: the prior, not the data, decided the order</span>"
         parts = [f"<div class='pk-sentence'>{html.escape(e.sentence)}</div>",
@@ -591,15 +597,16 @@ class DebugDesk(w.VBox):
         if not batch:
             self._show_figure(e)
 
-    def _style_figure(self, fig: go.Figure) -> go.Figure:
+    @staticmethod
+    def _style_figure(fig: go.Figure) -> go.Figure:
         fig.data[_EXPECTED].name = "expected"
         fig.data[_AS_READ].name = "observed as read"
         fig.data[_CORRECTED].name = "observed corrected"
         fig.data[_AS_READ].line.dash = "dash"
         fig.data[_CORRECTED].textposition = "bottom center"
         fig.data[_BODY].name = "body (expected)"
-        fig.update_layout(margin=dict(l=0, r=0, t=5, b=0), legend=dict(orientation="h", y=0.0, x=0.0,
-                                                                       font=dict(size=11)))
+        fig.update_layout(width=470, height=430, margin=dict(l=0, r=0, t=5, b=0),
+                          legend=dict(orientation="h", y=0.0, x=0.0, font=dict(size=11)))
         return fig
 
     def _show_figure(self, e) -> None:

@@ -41,42 +41,49 @@ class TrajectoryView(w.VBox):
     chosen_span = t.Int(-1)
 
     def __init__(self, report: TrajectoryReport, *, chosen_span: int = -1, rate_limit: float | None = None,
-                 height: int = 720):
+                 width: int = 900, height: int = 760):
         if not isinstance(report, TrajectoryReport):
             raise PoseInputError(f"TrajectoryView needs a TrajectoryReport (from check_trajectory), got "
                                  f"{type(report).__name__}")
         self.report = report
         self.spans, self.total_spans = flagged_spans(report)
         self.series = go.FigureWidget(trajectory_figure(report, spans=self.spans, rate_limit=rate_limit,
-                                                        height=height))
+                                                        height=height, width=width))
         self.series.add_class("posekit-trajectory-series")
         for trace in self.series.data[_FIRST_FLAG_TRACE:]:
             trace.on_click(self._on_click)
         options = [("(no span chosen)", -1)] + [(s.words(), k) for k, s in enumerate(self.spans)]
         self.span_list = w.Select(options=options, value=-1, rows=min(12, len(options)),
-                                  layout=w.Layout(width="100%"))
+                                  layout=w.Layout(width="100%", height="auto"))
         self.span_list.add_class("posekit-trajectory-spans")
         self.detail = w.HTML()
         self.detail.add_class("posekit-trajectory-detail")
         fig = frame_figure(np.eye(3), np.zeros(3), body=True, overlays=[("prev", np.eye(3), np.zeros(3))],
-                           height=420)
+                           height=400)
+        fig.update_layout(width=440, margin=dict(l=0, r=0, t=5, b=0))
         fig.data[_FRAME].name = "pose at the span"
         fig.data[_PREVIOUS + 1].name = "one used row before"
+        fig.data[_PREVIOUS + 1].textposition = "bottom center"  # apart from the letters of the pose itself
         self.pose_figure = go.FigureWidget(fig)
         self.pose_figure.add_class("posekit-trajectory-pose")
+        pose_box = w.Box([self.pose_figure], layout=w.Layout(width="450px"))
+        pose_box.add_class("posekit-trajectory-pose-box")
+        series_box = w.Box([self.series], layout=w.Layout(width="100%", overflow="auto"))
+        series_box.add_class("posekit-trajectory-series-box")
         more = (f" (showing the first {len(self.spans)} of {self.total_spans})"
                 if self.total_spans > len(self.spans) else "")
         summary = w.HTML("<pre class='pk-words' style='white-space:pre-wrap;margin:0'>"
                          + html.escape(report.summary()) + "</pre>")
         counts = ", ".join(f"{FLAG_STYLES.get(k, (k,))[0]} {v}" for k, v in report.counts().items() if v)
         head = w.HTML(f"<b>Trajectory check</b> — {report.rows} rows; flagged: {html.escape(counts or 'nothing')}")
-        side = w.VBox([w.HTML(f"<b>Flagged spans</b>{html.escape(more)} — click a marker in the strip, "
-                              "or choose here (arrow keys)"), self.span_list, self.detail, self.pose_figure],
-                      layout=w.Layout(width="440px", min_width="440px", padding="0 0 0 10px"))
+        side = w.VBox([w.HTML(f"<b>Flagged spans</b>{html.escape(more)} — click a marker in the bottom strip, "
+                              "or choose here (arrow keys)"), self.span_list, self.detail],
+                      layout=w.Layout(width="420px", min_width="380px", padding="0 14px 0 0"))
         details = w.Accordion(children=[summary])
         details.set_title(0, "the whole report in words")
-        super().__init__([w.HTML(STYLE_SHEET), head,
-                          w.HBox([w.Box([self.series], layout=w.Layout(flex="1 1 auto")), side]), details])
+        css = w.HTML("<style>.posekit-trajectory-view .widget-html-content { line-height: 1.35; }</style>")
+        super().__init__([w.HTML(STYLE_SHEET), css, head,
+                          series_box, w.HBox([side, pose_box]), details])
         self.add_class("posekit-trajectory-view")
         self.span_list.observe(lambda ch: setattr(self, "chosen_span", int(ch["new"])), "value")
         self.observe(self._on_chosen, ["chosen_span"])
