@@ -76,6 +76,22 @@ WIDGET_FIELDS: dict[str, dict[str, tuple]] = {
         "unit": ("choice", ("degrees", "radians")),
         "direction": ("choice", ("parent-from-child", "child-from-parent")),
     },
+    "desk": {
+        "pasted": ("text",),
+        "pairs": ("choice", ("one", "many")),
+        "expected_source": ("choice", ("numbers", "words", "pose")),
+        "expected_text": ("text",),
+        "expected_kind": ("choice", ("by count", "euler", "quaternion", "rotation-vector", "matrix", "transform",
+                                     "position-euler", "position-quaternion")),
+        "expected_matrix": ("floats", 16),
+        "convention": ("convention",),
+        "chosen": ("int", 0, 99),
+        "palette": ("choice", ("standard", "colour-blind")),
+    },
+    "trajectory": {
+        "chosen_span": ("int", -1, 100_000),
+        "summary": ("text",),
+    },
 }
 WIDGET_KINDS = tuple(WIDGET_FIELDS)
 

@@ -8,3 +8,9 @@ __all__ = ["Explorer", "PlanarExplorer"]
 from .graph import GraphExplorer  # noqa: E402
 
 __all__ += ["GraphExplorer"]
+from .desk import DebugDesk  # noqa: E402
+
+__all__ += ["DebugDesk"]
+from .trajectory_view import TrajectoryView  # noqa: E402
+
+__all__ += ["TrajectoryView"]

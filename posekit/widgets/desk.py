@@ -1,0 +1,653 @@
+"""The debugging desk: paste the numbers you got, say what you expected, read the ranked explanations.
+
+One widget, opened with one call (``DebugDesk()``).  Glue only: the parser
+(:func:`~posekit.analysis.parse.parse_numbers`), the expected pose
+(:func:`~posekit.analysis.diagnose.expected_pose`,
+:func:`~posekit.analysis.diagnose.pose_from_words`) and the ranking
+(:func:`~posekit.analysis.diagnose.diagnose`,
+:func:`~posekit.analysis.diagnose.diagnose_batch`) do all the work; the view layer
+draws.  State lives in traitlets only (``pasted``, ``pairs``, ``expected_source``,
+``expected_text``, ``expected_kind``, ``expected_matrix``, ``convention``,
+``chosen``, ``palette``); the diagnosis shown is always recomputed from them.
+"""
+
+from __future__ import annotations
+
+import html
+import math
+
+import ipywidgets as w
+import numpy as np
+import plotly.graph_objects as go
+import traitlets as t
+
+from ..analysis.diagnose import (BatchDiagnosis, Diagnosis, ExpectedPose, diagnose, diagnose_batch, expected_pose,
+                                 pose_from_words)
+from ..analysis.parse import ParsedNumbers, parse_numbers
+from ..analysis.state import NamedPose, State, StateFileError, environment_versions
+from ..core.convention import Convention
+from ..core.errors import PoseInputError
+from ..core.reading import as_convention, write_rotation
+from ..core.transforms import Pose, make_transform, write_transform
+from ..view.diagnosis import error_html, parsed_html, residual_figure
+from ..view.frames import body_points, frame_figure, frame_points
+from ..view.readouts import STYLE_SHEET, matrix_html, panel_html
+from .controls import ConventionBar
+from .sharing import SharePanel, python_call
+
+__all__ = ["DebugDesk", "EXPECTED_KINDS", "DESK_FIELDS"]
+
+#: what the typed expected numbers are ("by count" lets the count decide, as expected_pose does)
+EXPECTED_KINDS = ("by count", "euler", "quaternion", "rotation-vector", "matrix", "transform", "position-euler",
+                  "position-quaternion")
+#: the convention fields the desk offers (the rest stay at posekit's defaults)
+DESK_FIELDS = ("sequence", "axes", "unit", "scalar", "algebra", "layout", "direction")
+_IDENTITY16 = tuple(float(v) for v in np.eye(4).ravel())
+_EXPECTED, _BODY, _AS_READ, _CORRECTED = 1, 2, 3, 4
+_SOURCES = (("numbers", "numbers"), ("a description in words", "words"), ("a pose passed in", "pose"))
+
+DESK_CSS = """<style>
+.posekit-desk .widget-html-content { line-height: 1.35; }
+.posekit-desk .pk-ok { font-size: 12.5px; color: #1b4d1b; }
+.posekit-desk .pk-bad { font-size: 12.5px; color: #a50f15; font-weight: 600; }
+.posekit-desk pre.pk-caret { font-size: 12px; background: #fbf3f3; border: 1px solid #e6caca; padding: 4px 6px;
+  margin: 3px 0; white-space: pre; overflow-x: auto; }
+.posekit-desk table.pk-readings { font-size: 12px; border-collapse: collapse; margin-top: 2px; }
+.posekit-desk table.pk-readings td, .posekit-desk table.pk-readings th { padding: 1px 6px; text-align: left;
+  border-bottom: 1px solid #eee; }
+.posekit-desk table.pk-readings th { color: #666; font-weight: normal; }
+.posekit-desk-list .widget-radio-box { gap: 2px; }
+.posekit-desk-list .widget-radio-box label { white-space: normal !important; line-height: 1.35; height: auto;
+  padding: 4px 6px; border-radius: 3px; font-size: 12.5px; display: flex; flex-direction: row-reverse;
+  justify-content: flex-end; align-items: flex-start; gap: 6px; }
+.posekit-desk-list .widget-radio-box label:has(input:checked) { background: #eaf2fb; outline: 1px solid #9ec3e6; }
+.posekit-desk-list .widget-radio-box input { margin-top: 3px; flex: none; }
+.posekit-desk .pk-section { font-weight: 600; font-size: 13px; margin: 6px 0 2px 0; }
+.posekit-desk .pk-sentence { font-size: 13px; font-weight: 600; margin: 2px 0 4px 0; }
+.posekit-desk .pk-mark { display: inline-block; font-size: 11px; padding: 0 5px; border-radius: 3px;
+  margin-right: 4px; border: 1px solid #999; color: #333; background: #f4f4f4; }
+.posekit-desk .pk-mark-tie { border-color: #c51b7d; color: #8e0152; background: #fde0ef; }
+.posekit-desk ul.pk-same { margin: 2px 0 4px 0; padding: 0 10px 0 18px; font-size: 12px; color: #444; }
+.posekit-desk-detail .widget-html-content { overflow-wrap: anywhere; padding-right: 10px; }
+.posekit-desk textarea { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 12.5px; }
+</style>"""
+
+
+def _lines(text: str) -> list[tuple[int, str]]:
+    return [(i + 1, ln) for i, ln in enumerate(text.splitlines()) if ln.strip()]
+
+
+def _numbers_text(arr) -> str:
+    """Numbers written back as text, one pose per line, shortest round-trip reprs."""
+    a = np.asarray(arr, dtype=float)
+    rows = a.reshape(1, -1) if a.ndim <= 1 else a.reshape(a.shape[0], -1)
+    return "\n".join(" ".join(repr(float(v)) for v in row) for row in rows)
+
+
+def _marks(e, batch: bool) -> str:
+    out = []
+    if e.equivalents:
+        out.append(f"{len(e.equivalents)} other{'s' if len(e.equivalents) > 1 else ''} give the same numbers")
+    if e.near_tie:
+        out.append("near tie")
+    return "".join(f"  [{m}]" for m in out)
+
+
+def _residual_words(e, batch: bool) -> str:
+    rms = "rms " if batch else ""
+    text = f"rotation off {rms}{math.degrees(e.rotation_residual):.3g}°"
+    if e.translation_residual is not None:
+        text += f", position off {rms}{1000 * e.translation_residual:.3g} mm"
+    return text
+
+
+class _DeskShare(SharePanel):
+    """The share panel, with the diagnosis lines written into the HTML report."""
+
+    def _report(self) -> None:
+        from ..view.report import write_report
+
+        path = self._stem().with_suffix(".html")
+        write_report(self.owner.to_state(), path, diagnosis=self.owner.diagnosis_lines(),
+                     title="posekit debugging desk report")
+        self.message.value = f"report written to <code>{html.escape(str(path.resolve()))}</code>"
+
+
+class DebugDesk(w.VBox):
+    """Paste wrong numbers, state the pose you expected, read what went wrong and how to fix it.
+
+    ``observed``: numbers to paste for you (an array: one pose, or ``(N, n)`` for N
+    pairs); ``pasted``: the text itself.  ``expected``: a description in words
+    (``"pitched 25 degrees down, 0.3 m forward"``), numbers read under
+    ``convention`` as ``expected_kind``, a :class:`~posekit.Pose` / 4x4 matrix, or an
+    :class:`~posekit.widgets.Explorer` (its pose is followed live).  The same
+    ``convention`` is the reading you assumed for the pasted numbers.
+
+    >>> desk = DebugDesk(pasted="0.0343 0.1060 0.9819 -0.1534",
+    ...                  expected="yawed 20 degrees left, pitched 10 degrees down")  # doctest: +SKIP
+    >>> desk.diagnosis.best.sentence  # doctest: +SKIP
+    """
+
+    pasted = t.Unicode("")
+    pairs = t.Unicode("one")
+    expected_source = t.Unicode("numbers")
+    expected_text = t.Unicode("")
+    expected_kind = t.Unicode("by count")
+    expected_matrix = t.Tuple(*[t.Float() for _ in range(16)], default_value=_IDENTITY16)
+    convention = t.Unicode("sequence=z-y-x unit=degrees")
+    chosen = t.Int(0)
+    palette = t.Unicode("standard")
+
+    def __init__(self, observed=None, expected=None, *, pasted: str = "", pairs: str | None = None,
+                 expected_source: str | None = None, expected_text: str = "", expected_kind: str = "by count",
+                 expected_matrix=None, convention="sequence=z-y-x unit=degrees", chosen: int = 0,
+                 palette: str = "standard"):
+        conv = as_convention(convention)
+        self._explorer = None
+        self._diagnosis = None
+        self._as_read = None
+        self._building = True
+        matrix = _IDENTITY16 if expected_matrix is None else tuple(float(v) for v in np.ravel(expected_matrix))
+        if len(matrix) != 16:
+            raise PoseInputError(f"expected_matrix: got {len(matrix)} numbers; expected the 16 of a 4x4 transform")
+        # --- what was passed in becomes the text and settings the desk shows --------------
+        if observed is not None:
+            if pasted:
+                raise PoseInputError("pass either observed numbers or pasted text, not both")
+            arr = np.asarray(observed, dtype=float)
+            many = arr.ndim >= 2 and not (arr.ndim == 2 and arr.shape in ((3, 3), (4, 4), (3, 4)))
+            pasted = _numbers_text(arr if many else arr.reshape(-1))
+            pairs = pairs or ("many" if many else "one")
+        if expected is not None:
+            expected_source, expected_text, matrix, expected_kind = self._expected_from(expected, conv, expected_kind,
+                                                                                         matrix)
+        pairs = pairs or "one"
+        expected_source = expected_source or ("numbers" if expected_text or expected is None else "words")
+        if expected_source == "numbers" and not expected_text and expected is None:
+            expected_text = "0 0 0"
+        for name, value, ok in (("pairs", pairs, ("one", "many")),
+                                ("expected_source", expected_source, tuple(v for _, v in _SOURCES)),
+                                ("expected_kind", expected_kind, EXPECTED_KINDS),
+                                ("palette", palette, ("standard", "colour-blind"))):
+            if value not in ok:
+                raise PoseInputError(f"{name}: got {value!r}; accepted: {', '.join(ok)}")
+        if not isinstance(pasted, str) or not isinstance(expected_text, str):
+            raise PoseInputError("pasted and expected_text must be text")
+
+        # --- controls ------------------------------------------------------------------
+        self.paste_box = w.Textarea(value=pasted, placeholder="paste the numbers you got: a quaternion, Euler angles, "
+                                    "a matrix, array([...]), key: value text ...", continuous_update=True,
+                                    layout=w.Layout(width="100%", height="96px"))
+        self.paste_box.add_class("posekit-desk-paste")
+        self.pairs_choice = w.ToggleButtons(options=[("one pose", "one"), ("several pairs, one per line", "many")],
+                                            value=pairs, style=w.ToggleButtonsStyle(button_width="auto"))
+        self.pairs_choice.add_class("posekit-desk-pairs")
+        self.understood = w.HTML(layout=w.Layout(width="100%"))
+        self.understood.add_class("posekit-desk-understood")
+        self.source_choice = w.ToggleButtons(options=list(_SOURCES), value=expected_source,
+                                             style=w.ToggleButtonsStyle(button_width="auto"))
+        self.source_choice.add_class("posekit-desk-source")
+        self.kind_choice = w.Dropdown(options=list(EXPECTED_KINDS), value=expected_kind, description="numbers are",
+                                      style={"description_width": "92px"}, layout=w.Layout(width="310px"))
+        self.kind_choice.add_class("posekit-desk-kind")
+        self.expected_box = w.Textarea(value=expected_text, continuous_update=True,
+                                       placeholder="e.g. 30 -10 0, or: pitched 25 degrees down, 0.3 m forward",
+                                       layout=w.Layout(width="100%", height="58px"))
+        self.expected_box.add_class("posekit-desk-expected")
+        self.expected_words = w.HTML(layout=w.Layout(width="100%"))
+        self.expected_words.add_class("posekit-desk-expected-words")
+        self.bar = ConventionBar(fields=DESK_FIELDS, initial={f: getattr(conv, f) for f in DESK_FIELDS})
+        self.explanation_list = w.RadioButtons(options=[], layout=w.Layout(width="100%"))
+        self.explanation_list.add_class("posekit-desk-list")
+        self.detail = w.HTML(layout=w.Layout(width="100%"))
+        self.detail.add_class("posekit-desk-detail")
+        self.code_box = w.Textarea(layout=w.Layout(width="100%", height="130px"))
+        self.code_box.add_class("posekit-desk-code")
+        self.palette_choice = w.ToggleButtons(options=[("standard colours", "standard"),
+                                                       ("colour-blind safe", "colour-blind")], value=palette,
+                                              style=w.ToggleButtonsStyle(button_width="auto"))
+        fig = frame_figure(np.eye(3), np.zeros(3), overlays=[("read", np.eye(3), np.zeros(3)),
+                                                              ("fixed", np.eye(3), np.zeros(3))],
+                           palette=palette, height=470)
+        self.figure = go.FigureWidget(self._style_figure(fig))
+        self.figure.add_class("posekit-desk-figure")
+        self.figure_box = w.Box([self.figure], layout=w.Layout(width="100%"))
+        self.figure_box.add_class("posekit-desk-3d")
+        self.residual_box = w.Box([], layout=w.Layout(width="100%", display="none"))
+        self.residual_box.add_class("posekit-desk-residuals")
+
+        left = w.VBox([w.HTML("<div class='pk-section'>1. The numbers you got</div>"), self.pairs_choice,
+                       self.paste_box, self.understood,
+                       w.HTML("<div class='pk-section'>2. The pose you expected</div>"), self.source_choice,
+                       self.kind_choice, self.expected_box, self.expected_words],
+                      layout=w.Layout(width="440px", min_width="440px", padding="0 14px 0 0"))
+        right = w.VBox([w.HTML("<div class='pk-section'>3. Explanations, most likely first "
+                               "<span style='font-weight:normal;color:#666'>(keyboard: Tab to one, Space chooses it)</span></div>"),
+                        self.explanation_list, self.detail, self.figure_box, self.residual_box,
+                        w.HTML("<div class='pk-section'>Corrected reading — copy into your code</div>"),
+                        self.code_box, self.palette_choice],
+                       layout=w.Layout(flex="1 1 0", min_width="0", overflow="hidden", padding="0 6px 0 0"))
+        top = w.VBox([w.HTML("<div class='pk-section'>Your convention — how you wrote the expected numbers and "
+                             "how you read the ones you got</div>"), self.bar])
+        self.share = _DeskShare(self, "desk-state")
+        super().__init__([w.HTML(STYLE_SHEET + DESK_CSS), top, w.HBox([left, right]), self.share])
+        self.add_class("posekit-desk")
+
+        with self.hold_trait_notifications():
+            self.convention = conv.to_text()
+            self.pasted = pasted
+            self.pairs = pairs
+            self.expected_source = expected_source
+            self.expected_text = expected_text
+            self.expected_kind = expected_kind
+            self.expected_matrix = matrix
+            self.chosen = int(chosen)
+            self.palette = palette
+
+        self.paste_box.observe(lambda ch: setattr(self, "pasted", ch["new"]), "value")
+        self.expected_box.observe(lambda ch: setattr(self, "expected_text", ch["new"]), "value")
+        self.pairs_choice.observe(lambda ch: setattr(self, "pairs", ch["new"]), "value")
+        self.source_choice.observe(lambda ch: setattr(self, "expected_source", ch["new"]), "value")
+        self.kind_choice.observe(lambda ch: setattr(self, "expected_kind", ch["new"]), "value")
+        self.palette_choice.observe(lambda ch: setattr(self, "palette", ch["new"]), "value")
+        self.explanation_list.observe(self._on_pick, "value")
+        for ctl in self.bar.controls.values():
+            ctl.observe(self._on_setting, "value")
+        self.observe(self._on_inputs, ["pasted", "pairs", "expected_source", "expected_text", "expected_kind",
+                                       "expected_matrix", "convention"])
+        self.observe(self._on_chosen, ["chosen"])
+        self.observe(self._on_palette, ["palette"])
+        if isinstance(expected, _explorer_type()):
+            self.follow(expected)
+        self._building = False
+        self._recompute(keep_choice=True)
+
+    # --- the expected pose passed in ----------------------------------------------------
+    @staticmethod
+    def _expected_from(expected, conv: Convention, kind: str, matrix):
+        explorer = _explorer_type()
+        if isinstance(expected, explorer):
+            return "pose", "", tuple(float(v) for v in expected.to_pose().matrix.ravel()), kind
+        if isinstance(expected, Pose):
+            return "pose", "", tuple(float(v) for v in expected.matrix.ravel()), kind
+        if isinstance(expected, ExpectedPose):
+            if expected.rotation.ndim != 2:
+                mats = expected.matrix
+                return "numbers", _numbers_text(write_transform(mats, "matrix", conv, flat=True)), matrix, "transform"
+            return "pose", "", tuple(float(v) for v in expected.matrix.ravel()), kind
+        if isinstance(expected, str):
+            looks_like_words = any(c.isalpha() for c in expected) and not any(c in expected for c in "[:={")
+            return ("words" if looks_like_words else "numbers"), expected, matrix, kind
+        arr = np.asarray(expected, dtype=float)
+        if arr.shape == (4, 4):
+            return "pose", "", tuple(float(v) for v in Pose(arr).matrix.ravel()), kind
+        if arr.ndim == 3 and arr.shape[1:] in ((4, 4), (3, 3)):
+            # canonical matrices, as diagnose_batch reads them: written out under the convention
+            if arr.shape[1:] == (3, 3):
+                return "numbers", _numbers_text(write_rotation(arr, "matrix", conv, flat=True)), matrix, "matrix"
+            return "numbers", _numbers_text(write_transform(arr, "matrix", conv, flat=True)), matrix, "transform"
+        return "numbers", _numbers_text(arr if arr.ndim >= 2 and arr.shape != (3, 3) else arr.reshape(-1)), \
+            matrix, kind
+
+    def follow(self, explorer) -> None:
+        """Take the expected pose from an :class:`~posekit.widgets.Explorer`, live, from now on."""
+        if self._explorer is not None:
+            self._explorer.unobserve(self._on_explorer, ["angles", "translation", "convention"])
+        self._explorer = explorer
+        explorer.observe(self._on_explorer, ["angles", "translation", "convention"])
+        with self.hold_trait_notifications():
+            self.expected_source = "pose"
+            self.expected_matrix = tuple(float(v) for v in explorer.to_pose().matrix.ravel())
+
+    def _on_explorer(self, change) -> None:
+        self.expected_matrix = tuple(float(v) for v in self._explorer.to_pose().matrix.ravel())
+
+    # --- results ------------------------------------------------------------------------
+    @property
+    def diagnosis(self) -> Diagnosis | BatchDiagnosis | None:
+        """The diagnosis shown now (None while the inputs cannot be read)."""
+        return self._diagnosis
+
+    def chosen_explanation(self):
+        d = self._diagnosis
+        if d is None or not d.explanations:
+            return None
+        return d.explanations[min(self.chosen, len(d.explanations) - 1)]
+
+    def convention_value(self) -> Convention:
+        return Convention.parse(self.convention)
+
+    def expected(self) -> ExpectedPose:
+        """The expected pose (one, or a batch in the several-pairs mode) the inputs describe."""
+        conv = self.convention_value()
+        kind = None if self.expected_kind == "by count" else self.expected_kind
+        if self.expected_source == "pose":
+            return expected_pose(Pose(np.asarray(self.expected_matrix, dtype=float).reshape(4, 4)))
+        if self.pairs == "one":
+            if self.expected_source == "words":
+                return pose_from_words(self.expected_text)
+            return expected_pose(self.expected_text, kind, conv)
+        poses = []
+        for number, line in _lines(self.expected_text):
+            try:
+                poses.append(pose_from_words(line) if self.expected_source == "words"
+                             else expected_pose(line, kind, conv))
+            except PoseInputError as exc:
+                raise type(exc)(f"expected pose, line {number}: {exc}") from None
+        if not poses:
+            raise PoseInputError("expected pose: no lines typed; type one pose per line (or one for every pair)")
+        rot = np.stack([p.rotation for p in poses])
+        tr = None if any(p.translation is None for p in poses) else np.stack([p.translation for p in poses])
+        return ExpectedPose(rot, tr, f"{len(poses)} expected poses typed as lines")
+
+    def _observed_lines(self):
+        rows = []
+        for number, line in _lines(self.pasted):
+            try:
+                rows.append(parse_numbers(line))
+            except PoseInputError as exc:
+                raise _LineError(exc, number) from None
+        if not rows:
+            raise PoseInputError("no lines pasted; paste one pose per line")
+        counts = {p.count for p in rows}
+        if len(counts) > 1:
+            raise PoseInputError(f"the pasted lines hold different counts of numbers ({sorted(counts)}); "
+                                 "every line must be one pose written the same way")
+        return rows
+
+    # --- sharing ------------------------------------------------------------------------
+    def _settings(self) -> dict:
+        return {"pasted": self.pasted, "pairs": self.pairs, "expected_source": self.expected_source,
+                "expected_text": self.expected_text, "expected_kind": self.expected_kind,
+                "expected_matrix": tuple(float(v) for v in self.expected_matrix),
+                "convention": self.convention, "chosen": int(self.chosen), "palette": self.palette}
+
+    def to_state(self, notes: str = "") -> State:
+        """The pasted text, expected pose and chosen explanation (plus the poses drawn) as a State."""
+        poses = []
+        conv = self.convention_value()
+        for name, rot, tr in self._drawn():
+            try:
+                poses.append(NamedPose(name, make_transform(rot, tr), conv))
+            except PoseInputError:
+                continue  # a reflection or a non-orthonormal block cannot be a state pose; the text keeps it
+        return State("desk", self._settings(), tuple(poses), (), notes)
+
+    @classmethod
+    def from_state(cls, state: State) -> "DebugDesk":
+        """Rebuild a desk from a state (e.g. ``load_state("bug.json")``)."""
+        if state.widget != "desk":
+            raise StateFileError(f"state is for widget {state.widget!r}, not 'desk'")
+        return cls(**dict(state.settings))
+
+    def code_cell(self) -> str:
+        """A notebook cell that rebuilds exactly this desk."""
+        return python_call("posekit.widgets", "DebugDesk", self._settings(), environment_versions(), "desk")
+
+    def diagnosis_lines(self) -> list[str]:
+        """The diagnosis in plain lines, for the HTML report."""
+        d = self._diagnosis
+        if d is None:
+            return ["no diagnosis: the inputs could not be read"]
+        lines = []
+        if isinstance(d, BatchDiagnosis):
+            lines.append(f"{d.pairs} pairs; " + ("one explanation fits every pair" if d.consistent
+                                                 else "no single convention error fits every pair"))
+        else:
+            lines.append(f"the numbers were read as {d.assumed_reading}")
+        for e in d.explanations:
+            lines.append(f"{e.rank}. {e.sentence} ({_residual_words(e, isinstance(d, BatchDiagnosis))})"
+                         + _marks(e, isinstance(d, BatchDiagnosis)) + ("  <- chosen" if e is self.chosen_explanation()
+                                                                       else ""))
+        if isinstance(d, BatchDiagnosis) and d.offset is not None:
+            lines.append("constant offset: " + d.offset.sentence)
+        e = self.chosen_explanation()
+        if e is not None and not isinstance(d, BatchDiagnosis):
+            lines.append("corrected numbers (in the reading assumed): " + ", ".join(f"{v:.9g}" for v in
+                                                                                  e.corrected_numbers))
+        return lines
+
+    # --- observers ----------------------------------------------------------------------
+    def _on_setting(self, change) -> None:
+        new = self.convention_value().changed(**self.bar.settings())
+        if new.to_text() != self.convention:
+            self.convention = new.to_text()
+
+    def _on_inputs(self, change) -> None:
+        if not self._building:
+            self._recompute(keep_choice=False)
+
+    def _on_pick(self, change) -> None:
+        if change["new"] is not None and change["new"] != self.chosen:
+            self.chosen = int(change["new"])
+
+    def _on_chosen(self, change) -> None:
+        if self.explanation_list.value != self.chosen and self.chosen < len(self.explanation_list.options):
+            self.explanation_list.value = self.chosen
+        self._show_choice()
+
+    def _on_palette(self, change) -> None:
+        fig = self._style_figure(frame_figure(np.eye(3), overlays=[("read", np.eye(3), None),
+                                                                   ("fixed", np.eye(3), None)],
+                                              palette=self.palette, height=470))
+        with self.figure.batch_update():
+            for k, trace in enumerate(fig.data):
+                if k == _BODY:
+                    continue
+                self.figure.data[k].line = trace.line
+                self.figure.data[k].marker = trace.marker
+                self.figure.data[k].textfont = trace.textfont
+
+    # --- computing and showing ----------------------------------------------------------
+    def _sync_controls(self) -> None:
+        conv = self.convention_value()
+        self.bar.set_settings({f: getattr(conv, f) for f in DESK_FIELDS})
+        for box, value in ((self.paste_box, self.pasted), (self.expected_box, self.expected_text),
+                           (self.pairs_choice, self.pairs), (self.source_choice, self.expected_source),
+                           (self.kind_choice, self.expected_kind)):
+            if box.value != value:
+                box.value = value
+        self.expected_box.layout.display = "none" if self.expected_source == "pose" else None
+        self.kind_choice.layout.display = None if self.expected_source == "numbers" else "none"
+
+    def _recompute(self, keep_choice: bool) -> None:
+        self._sync_controls()
+        self._diagnosis = None
+        self._as_read = None
+        many = self.pairs == "many"
+        observed = None
+        try:
+            if many:
+                rows = self._observed_lines()
+                self.understood.value = (f"<div class='pk-ok'>{len(rows)} pairs: {len(rows)} lines of "
+                                         f"{rows[0].count} numbers each</div>") + parsed_html(rows[0], limit=4)
+                observed = np.stack([p.numbers for p in rows])
+            elif not self.pasted.strip():
+                self.understood.value = ("<div class='pk-words'>Nothing pasted yet: paste or type the numbers "
+                                         "above.</div>")
+            else:
+                observed = parse_numbers(self.pasted)
+                self.understood.value = parsed_html(observed)
+        except PoseInputError as exc:
+            self.understood.value = error_html(exc.inner if isinstance(exc, _LineError) else exc) + \
+                (f"<div class='pk-words'>on pasted line {exc.line_number}</div>" if isinstance(exc, _LineError)
+                 else "")
+            observed = None
+        try:
+            exp = self.expected()
+            self.expected_words.value = self._expected_html(exp)
+        except PoseInputError as exc:
+            self.expected_words.value = error_html(exc)
+            exp = None
+        if observed is not None and exp is not None:
+            try:
+                if many:
+                    if exp.rotation.ndim == 2:
+                        n = observed.shape[0]
+                        exp = ExpectedPose(np.repeat(exp.rotation[None], n, 0),
+                                           None if exp.translation is None else np.repeat(exp.translation[None], n, 0),
+                                           exp.source)
+                    elif exp.rotation.shape[0] == 1:
+                        n = observed.shape[0]
+                        exp = ExpectedPose(np.repeat(exp.rotation, n, 0),
+                                           None if exp.translation is None else np.repeat(exp.translation, n, 0),
+                                           exp.source)
+                    self._diagnosis = diagnose_batch(exp, observed, expected_convention=self.convention_value())
+                else:
+                    self._diagnosis = diagnose(exp, observed, expected_convention=self.convention_value())
+            except PoseInputError as exc:
+                self.detail.value = error_html(exc)
+        self._expected_value = exp
+        d = self._diagnosis
+        if d is None:
+            self.explanation_list.options = []
+            self.code_box.value = ""
+            if observed is None or exp is None:
+                self.detail.value = ("<div class='pk-words'>The explanations appear as soon as both the numbers "
+                                     "you got and the pose you expected can be read.</div>")
+            self._show_figure(None)
+            return
+        if isinstance(d, Diagnosis) and d.parsed is not None:
+            self._as_read = next((i for i in d.parsed.interpretations if i.describe() == d.assumed_reading), None)
+        batch = isinstance(d, BatchDiagnosis)
+        options = [(f"{e.rank}. {e.sentence}  — {_residual_words(e, batch)}{_marks(e, batch)}", k)
+                   for k, e in enumerate(d.explanations)]
+        pick = min(self.chosen, len(options) - 1) if keep_choice else 0
+        self.explanation_list.options = options
+        self.explanation_list.value = pick
+        if self.chosen != pick:
+            self.chosen = pick  # shows the choice through _on_chosen
+        else:
+            self._show_choice()
+        self.figure_box.layout.display = "none" if batch else None
+        self.residual_box.layout.display = None if batch else "none"
+        if batch:
+            off = d.offset
+            fig = residual_figure(d.rotation_residuals, d.translation_residuals,
+                                  offset_rotation_residuals=None if off is None else off.residuals,
+                                  offset_translation_residuals=None if off is None else off.translation_residuals,
+                                  rotation_tolerance=math.radians(0.5), width=470)
+            self.residual_figure = go.FigureWidget(fig)
+            self.residual_box.children = [self.residual_figure]
+
+    def _expected_html(self, exp: ExpectedPose) -> str:
+        if exp.rotation.ndim != 2:
+            return f"<div class='pk-ok'>{exp.rotation.shape[0]} expected poses, one per line</div>"
+        return ("<div class='pk-ok'>understood: " + html.escape(exp.source) + "</div>"
+                + panel_html("expected pose, canonical 4x4 (child → parent)", matrix_html(exp.matrix, 4)))
+
+    def _drawn(self):
+        """(name, rotation, origin) of expected, observed as read and observed corrected (one-pose mode)."""
+        d = self._diagnosis
+        out = []
+        exp = getattr(self, "_expected_value", None)
+        if exp is None or exp.rotation.ndim != 2:
+            return out
+        out.append(("expected", exp.rotation, np.zeros(3) if exp.translation is None else exp.translation))
+        if isinstance(d, Diagnosis):
+            if self._as_read is not None:
+                tr = self._as_read.translation
+                out.append(("observed as read", self._as_read.rotation, np.zeros(3) if tr is None else tr))
+            e = self.chosen_explanation()
+            if e is not None:
+                ct = e.corrected_translation
+                out.append(("observed corrected", e.corrected_rotation, np.zeros(3) if ct is None else ct))
+        return out
+
+    def _show_choice(self) -> None:
+        d = self._diagnosis
+        e = self.chosen_explanation()
+        if d is None or e is None:
+            return
+        batch = isinstance(d, BatchDiagnosis)
+        marks = ""
+        if e.equivalents:
+            marks += (f"<span class='pk-mark'>{len(e.equivalents)} other explanation(s) give the same numbers"
+                      f"{' for these pairs' if batch else ' from this one sample'}</span>")
+        if e.near_tie:
+            marks += "<span class='pk-mark pk-mark-tie'>near tie: the prior, not the data, decided the order</span>"
+        parts = [f"<div class='pk-sentence'>{html.escape(e.sentence)}</div>",
+                 f"<div class='pk-words'>{html.escape(_residual_words(e, batch))}; {e.deviations:g} deviation(s) "
+                 f"from your reading; cost {e.cost:.3g}</div>", f"<div>{marks}</div>" if marks else ""]
+        if e.equivalents:
+            shown = "".join(f"<li>{html.escape(s)}</li>" for s in e.equivalents[:3])
+            more = f"<li>and {len(e.equivalents) - 3} more</li>" if len(e.equivalents) > 3 else ""
+            parts.append("<div class='pk-words'>cannot be told apart from"
+                         f"{' these pairs' if batch else ' this one sample'} (one more sample would):</div>"
+                         f"<ul class='pk-same'>{shown}{more}</ul>")
+        if batch:
+            s = d.statistics
+            parts.append(f"<div class='pk-words'>best explanation per pair: rotation median "
+                         f"{s['rotation_median_degrees']:.3g}°, max {s['rotation_max_degrees']:.3g}°"
+                         + (f"; translation median {1000 * s['translation_median']:.3g} mm, max "
+                            f"{1000 * s['translation_max']:.3g} mm" if 'translation_median' in s else "")
+                         + ("; fits every pair" if d.consistent else "; does not fit every pair") + "</div>")
+            if d.offset is not None:
+                parts.append(f"<div class='pk-words'><b>Constant offset:</b> {html.escape(d.offset.sentence)}</div>")
+        else:
+            parts.append(f"<div class='pk-words'><b>Corrected numbers</b>, in the reading you assumed "
+                         f"({html.escape(d.assumed_reading)}): <code class='posekit-desk-corrected'>"
+                         + html.escape(", ".join(f"{v:.9g}" for v in e.corrected_numbers)) + "</code></div>")
+            if self._as_read is None:
+                parts.append("<div class='pk-words'>Your reading is not among the plausible ones for these numbers, "
+                             "so 'observed as read' is not drawn.</div>")
+        self.detail.value = "".join(parts)
+        if self.code_box.value != e.code:
+            self.code_box.value = e.code
+        if not batch:
+            self._show_figure(e)
+
+    @staticmethod
+    def _style_figure(fig: go.Figure) -> go.Figure:
+        fig.data[_EXPECTED].name = "expected"
+        fig.data[_AS_READ].name = "observed as read"
+        fig.data[_CORRECTED].name = "observed corrected"
+        fig.data[_AS_READ].line.dash = "dash"
+        fig.data[_CORRECTED].textposition = "bottom center"
+        fig.data[_BODY].name = "body (expected)"
+        fig.update_layout(width=470, height=430, margin=dict(l=0, r=0, t=5, b=0),
+                          legend=dict(orientation="h", y=0.0, x=0.0, font=dict(size=11)))
+        return fig
+
+    def _show_figure(self, e) -> None:
+        drawn = {name: (rot, org) for name, rot, org in self._drawn()}
+        xs, ys, zs, vis = [], [], [], []
+        for name in ("expected", "observed as read", "observed corrected"):
+            if name in drawn:
+                x, y, z = frame_points(*drawn[name])
+                vis.append(True)
+            else:
+                x, y, z = frame_points(np.eye(3))
+                vis.append(False)
+            xs.append(x), ys.append(y), zs.append(z)
+        if "expected" in drawn:
+            body = body_points(*drawn["expected"])
+        else:
+            body = body_points(np.eye(3))
+        reach = max([1.0] + [float(np.max(np.abs(o))) for _, o in drawn.values()])
+        extent = max(1.6, reach + 1.2)
+        self.figure.plotly_restyle({"x": [xs[0], body[:, 0].tolist(), xs[1], xs[2]],
+                                    "y": [ys[0], body[:, 1].tolist(), ys[1], ys[2]],
+                                    "z": [zs[0], body[:, 2].tolist(), zs[1], zs[2]],
+                                    "visible": [vis[0], vis[0], vis[1], vis[2]]},
+                                   trace_indexes=[_EXPECTED, _BODY, _AS_READ, _CORRECTED])
+        scene = self.figure.layout.scene
+        if scene.xaxis.range is None or abs(scene.xaxis.range[1] - extent) > 1e-9:
+            with self.figure.batch_update():
+                for ax in (scene.xaxis, scene.yaxis, scene.zaxis):
+                    ax.range = [-extent, extent]
+
+
+class _LineError(PoseInputError):
+    """A parse error on one pasted line (several-pairs mode): keeps the line number and the inner error."""
+
+    def __init__(self, inner, line_number: int):
+        self.inner = inner
+        self.line_number = line_number
+        super().__init__(f"pasted line {line_number}: {inner}")
+
+
+def _explorer_type():
+    from .explorer import Explorer
+
+    return Explorer

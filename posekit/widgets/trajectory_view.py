@@ -1,0 +1,176 @@
+"""The trajectory view: a trajectory check report as time series, flagged spans shaded and listed.
+
+Click a marker in the flagged-spans strip, or choose a span in the list (arrow keys
+work there), and the 3D view shows the pose at that span's first row beside the pose
+one used row before it.  Glue only: the report comes from
+:func:`posekit.analysis.trajectory.check_trajectory`, the figures from
+:mod:`posekit.view.trajectory` and :mod:`posekit.view.frames`.  The one state is the
+``chosen_span`` traitlet (-1: none).
+"""
+
+from __future__ import annotations
+
+import html
+
+import ipywidgets as w
+import numpy as np
+import plotly.graph_objects as go
+import traitlets as t
+
+from ..analysis.state import NamedPose, State, StateFileError
+from ..analysis.trajectory import TrajectoryReport
+from ..core.errors import PoseInputError
+from ..core.transforms import make_transform
+from ..view.frames import body_points, frame_figure, frame_points
+from ..view.readouts import STYLE_SHEET
+from ..view.trajectory import FLAG_STYLES, flagged_spans, row_rotation, trajectory_figure
+
+__all__ = ["TrajectoryView"]
+
+_FRAME, _PREVIOUS = 1, 2
+_FIRST_FLAG_TRACE = 9  # 3 Euler, 4 quaternion, the rate and the rate limit
+
+
+class TrajectoryView(w.VBox):
+    """Show a :class:`~posekit.analysis.trajectory.TrajectoryReport`; pick a flagged span to see its pose.
+
+    >>> from posekit.desk_scenarios import trajectory_scenario   # doctest: +SKIP
+    >>> TrajectoryView(trajectory_scenario().report)            # doctest: +SKIP
+    """
+
+    chosen_span = t.Int(-1)
+
+    def __init__(self, report: TrajectoryReport, *, chosen_span: int = -1, rate_limit: float | None = None,
+                 width: int = 900, height: int = 760):
+        if not isinstance(report, TrajectoryReport):
+            raise PoseInputError(f"TrajectoryView needs a TrajectoryReport (from check_trajectory), got "
+                                 f"{type(report).__name__}")
+        self.report = report
+        self.spans, self.total_spans = flagged_spans(report)
+        self.series = go.FigureWidget(trajectory_figure(report, spans=self.spans, rate_limit=rate_limit,
+                                                        height=height, width=width))
+        self.series.add_class("posekit-trajectory-series")
+        for trace in self.series.data[_FIRST_FLAG_TRACE:]:
+            trace.on_click(self._on_click)
+        options = [("(no span chosen)", -1)] + [(s.words(), k) for k, s in enumerate(self.spans)]
+        self.span_list = w.Select(options=options, value=-1, rows=min(12, len(options)),
+                                  layout=w.Layout(width="100%", height="auto"))
+        self.span_list.add_class("posekit-trajectory-spans")
+        self.detail = w.HTML()
+        self.detail.add_class("posekit-trajectory-detail")
+        fig = frame_figure(np.eye(3), np.zeros(3), body=True, overlays=[("prev", np.eye(3), np.zeros(3))],
+                           height=400)
+        fig.update_layout(width=440, margin=dict(l=0, r=0, t=5, b=0))
+        fig.data[_FRAME].name = "pose at the span"
+        fig.data[_PREVIOUS + 1].name = "one used row before"
+        fig.data[_PREVIOUS + 1].textposition = "bottom center"  # apart from the letters of the pose itself
+        self.pose_figure = go.FigureWidget(fig)
+        self.pose_figure.add_class("posekit-trajectory-pose")
+        pose_box = w.Box([self.pose_figure], layout=w.Layout(width="450px"))
+        pose_box.add_class("posekit-trajectory-pose-box")
+        series_box = w.Box([self.series], layout=w.Layout(width="100%", overflow="auto"))
+        series_box.add_class("posekit-trajectory-series-box")
+        more = (f" (showing the first {len(self.spans)} of {self.total_spans})"
+                if self.total_spans > len(self.spans) else "")
+        summary = w.HTML("<pre class='pk-words' style='white-space:pre-wrap;margin:0'>"
+                         + html.escape(report.summary()) + "</pre>")
+        counts = ", ".join(f"{FLAG_STYLES.get(k, (k,))[0]} {v}" for k, v in report.counts().items() if v)
+        head = w.HTML(f"<b>Trajectory check</b> — {report.rows} rows; flagged: {html.escape(counts or 'nothing')}")
+        side = w.VBox([w.HTML(f"<b>Flagged spans</b>{html.escape(more)} — click a marker in the bottom strip, "
+                              "or choose here (arrow keys)"), self.span_list, self.detail],
+                      layout=w.Layout(width="420px", min_width="380px", padding="0 14px 0 0"))
+        details = w.Accordion(children=[summary])
+        details.set_title(0, "the whole report in words")
+        css = w.HTML("<style>.posekit-trajectory-view .widget-html-content { line-height: 1.35; }</style>")
+        super().__init__([w.HTML(STYLE_SHEET), css, head,
+                          series_box, w.HBox([side, pose_box]), details])
+        self.add_class("posekit-trajectory-view")
+        self.span_list.observe(lambda ch: setattr(self, "chosen_span", int(ch["new"])), "value")
+        self.observe(self._on_chosen, ["chosen_span"])
+        if chosen_span != -1:
+            self.chosen_span = int(chosen_span)
+        else:
+            self._show(-1)
+
+    def _on_click(self, trace, points, selector) -> None:
+        if points.point_inds:
+            self.chosen_span = int(trace.customdata[points.point_inds[0]])
+
+    def _on_chosen(self, change) -> None:
+        k = int(change["new"])
+        if not -1 <= k < len(self.spans):
+            raise PoseInputError(f"chosen_span: got {k}; accepted -1 (none) to {len(self.spans) - 1}")
+        if self.span_list.value != k:
+            self.span_list.value = k
+        self._show(k)
+
+    def shown_rows(self) -> tuple[int | None, int | None]:
+        """(row drawn, previous used row drawn) for the chosen span; None where nothing is drawn."""
+        if self.chosen_span < 0:
+            return None, None
+        row = self.spans[self.chosen_span].first_row
+        used = np.flatnonzero(self.report.used[:row])
+        return row, (int(used[-1]) if used.size else None)
+
+    def _show(self, k: int) -> None:
+        shapes = self.series.layout.shapes
+        if k < 0:
+            self.detail.value = "<div class='pk-words'>No span chosen.</div>"
+            shapes[-1].visible = False
+            self._draw(None, None)
+        else:
+            s = self.spans[k]
+            row, prev = self.shown_rows()
+            rot = row_rotation(self.report, row)
+            prev_rot = None if prev is None else row_rotation(self.report, prev)
+            e = self.report.euler_wrapped[row]
+            unit = "deg" if self.report.convention.degrees else "rad"
+            words = [f"<b>{html.escape(s.words())}</b>",
+                     html.escape(self.report.findings[s.finding].description)]
+            if rot is None:
+                words.append(f"row {row} was rejected: no pose to draw")
+            else:
+                words.append(f"row {row}: Euler readback " + ", ".join(f"{v:.4g}" for v in e) + f" {unit}")
+                if self.report.quaternion is not None:
+                    words.append("stored quaternion (sign made continuous): "
+                                 + ", ".join(f"{v:.4g}" for v in self.report.quaternion[row]))
+                if prev is not None:
+                    words.append(f"dotted: row {prev}, the used row before")
+            self.detail.value = "<div class='pk-words'>" + "<br>".join(words) + "</div>"
+            with self.series.batch_update():
+                shapes[-1].x0 = shapes[k].x0  # the shaded box of span k (shape k), outlined
+                shapes[-1].x1 = shapes[k].x1
+                shapes[-1].visible = True
+            self._draw(rot, prev_rot)
+
+    def _draw(self, rot, prev_rot) -> None:
+        xs, ys, zs, vis = [], [], [], []
+        for r in (rot, prev_rot):
+            x, y, z = frame_points(np.eye(3) if r is None else r)
+            xs.append(x), ys.append(y), zs.append(z), vis.append(r is not None)
+        body = body_points(np.eye(3) if rot is None else rot)
+        self.pose_figure.plotly_restyle({"x": [xs[0], body[:, 0].tolist(), xs[1]],
+                                         "y": [ys[0], body[:, 1].tolist(), ys[1]],
+                                         "z": [zs[0], body[:, 2].tolist(), zs[1]],
+                                         "visible": [vis[0], vis[0], vis[1]]}, trace_indexes=[1, 2, 3])
+
+    # --- sharing ------------------------------------------------------------------------
+    def to_state(self, notes: str = "") -> State:
+        """The chosen span, the report in words and the poses drawn (the data itself is not stored)."""
+        poses = []
+        row, prev = self.shown_rows()
+        for name, r in (("pose at the span", row), ("one used row before", prev)):
+            if r is not None:
+                rot = row_rotation(self.report, r)
+                if rot is not None:
+                    poses.append(NamedPose(f"{name} (row {r})", make_transform(rot, np.zeros(3)),
+                                           self.report.convention))
+        return State("trajectory", {"chosen_span": int(self.chosen_span),
+                                    "summary": self.report.summary()[:20_000]}, tuple(poses), (), notes)
+
+    @classmethod
+    def from_state(cls, state: State, report: TrajectoryReport) -> "TrajectoryView":
+        """Rebuild the view of ``report`` with the span chosen in ``state``."""
+        if state.widget != "trajectory":
+            raise StateFileError(f"state is for widget {state.widget!r}, not 'trajectory'")
+        return cls(report, chosen_span=state.settings["chosen_span"])
