@@ -384,3 +384,25 @@ def test_batch_offset_is_fitted_under_the_right_reading():
     assert not b.consistent
     assert b.offset.side == "right" and "scalar last" in b.offset.sentence
     assert np.allclose(b.offset.rotation, mount.as_matrix(), atol=1e-9)         # scipy: as_matrix
+
+
+def test_small_constant_offset_is_not_snapped_to_the_identity():
+    """A 2-degree mount offset is a calibration offset, not 'a 0-degree remap' (regression)."""
+    import warnings
+
+    from scipy.spatial.transform import Rotation as S  # reference conversions: scipy
+
+    from posekit.analysis import describe_remap, diagnose_batch
+
+    rng = np.random.default_rng(5)
+    angles = rng.uniform(-60, 60, (12, 3))
+    truth = S.from_euler("ZYX", angles, degrees=True)
+    logged = (truth * S.from_euler("z", 2.0, degrees=True)).as_quat()  # scalar last
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        result = diagnose_batch(angles, logged, expected_kind="euler",
+                                expected_convention="sequence=z-y-x unit=degrees")
+        assert describe_remap(np.eye(3)).startswith("no remap")
+    offset = result.offset
+    assert offset is not None and offset.snapped_remap is None
+    assert "no axis remap" in offset.sentence and "0-degree" not in offset.sentence

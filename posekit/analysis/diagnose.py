@@ -157,6 +157,8 @@ def describe_remap(matrix) -> str:
             if len(flipped) == 1:
                 return f"the {flipped[0]} axis mirrored, a handedness flip ({axis_map})"
         return f"a handedness flip ({axis_map})"
+    if np.array_equal(m, np.eye(3)):
+        return f"no remap ({axis_map})"
     rv = rot.rotvec_of_quaternion(rot.quaternion_of_matrix(m))
     angle = float(np.linalg.norm(rv))
     axis = rv / angle
@@ -1339,7 +1341,9 @@ def _fit_offset(r_e, t_e, interps, assumed_conv, akind, remaps, snap_tolerance, 
     proper = remaps[np.linalg.det(remaps) > 0]
     ang = _angles(np.broadcast_to(a, proper.shape), proper)
     j = int(np.argmin(ang))
-    snapped = proper[j].copy() if ang[j] <= snap_tolerance else None
+    # snapping to the identity would call a small mounting offset "no remap": only real remaps snap
+    is_identity = bool(np.array_equal(proper[j], np.eye(3)))
+    snapped = proper[j].copy() if ang[j] <= snap_tolerance and not is_identity else None
     where = "parent (left) side: observed = A expected" if side == "left" else \
         "child (right) side: observed = expected B"
     rv = np.degrees(np.linalg.norm(rot.rotvec_of_quaternion(rot.quaternion_of_matrix(a))))
