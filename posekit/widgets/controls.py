@@ -5,11 +5,13 @@ Glue only: the values live in traitlets of the owning widget; nothing here compu
 
 from __future__ import annotations
 
+import anywidget
 import ipywidgets as w
+import traitlets as t
 
 from ..core.convention import CHOICES
 
-__all__ = ["ConventionBar", "NumberRow"]
+__all__ = ["ConventionBar", "NumberRow", "KeyboardScope"]
 
 _LABELS = {
     "sequence": "Euler sequence",
@@ -99,3 +101,38 @@ class NumberRow(w.HBox):
         else:
             s.min, s.max = lo, hi
         s.step = step
+
+
+class KeyboardScope(anywidget.AnyWidget):
+    """An empty element that keeps JupyterLab's notebook shortcuts off the enclosing widget's controls.
+
+    In JupyterLab's command mode ArrowUp/ArrowDown and many letters are notebook
+    shortcuts, so a focused list box would not move its choice (ArrowDown jumps to the
+    next cell instead).  Lumino skips shortcut matching from an element marked
+    ``data-lm-suppress-shortcuts`` upwards; this marks every select, button and input
+    inside the nearest ancestor matching ``scope`` (a CSS selector), now and as the
+    controls are rebuilt.
+    """
+
+    _esm = """
+    export default {
+      render({ model, el }) {
+        let inner = null;
+        const markAll = (host) => host.querySelectorAll("select, button, input").forEach(
+          (n) => { if (!n.hasAttribute("data-lm-suppress-shortcuts")) n.setAttribute("data-lm-suppress-shortcuts", "true"); });
+        const start = () => {
+          const host = el.closest(model.get("scope"));
+          if (!host) return false;
+          markAll(host);
+          inner = new MutationObserver(() => markAll(host));
+          inner.observe(host, { childList: true, subtree: true });
+          return true;
+        };
+        if (start()) return () => inner.disconnect();
+        const outer = new MutationObserver(() => { if (start()) outer.disconnect(); });
+        outer.observe(document.body, { childList: true, subtree: true });
+        return () => { outer.disconnect(); if (inner) inner.disconnect(); };
+      }
+    };
+    """
+    scope = t.Unicode(".posekit-graph-explorer").tag(sync=True)

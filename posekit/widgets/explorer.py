@@ -23,7 +23,7 @@ from ..core.transforms import Pose, make_transform, write_transform
 from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET, gauge_html, matrix_html, numbers_html, panel_html, row_html, words_html
 from ..analysis.state import NamedPose, State, StateFileError, environment_versions
-from .controls import ConventionBar, NumberRow
+from .controls import ConventionBar, KeyboardScope, NumberRow
 from .sharing import SharePanel, python_call
 
 __all__ = ["Explorer"]
@@ -98,7 +98,7 @@ class Explorer(w.VBox):
                       layout=w.Layout(width="450px", min_width="450px", padding="0 8px 0 0"))
         top = w.VBox([w.HTML("<b>Convention</b> — every choice that gives the numbers their meaning"), self.bar,
                       self.words])
-        super().__init__([w.HTML(STYLE_SHEET), top,
+        super().__init__([w.HTML(STYLE_SHEET), KeyboardScope(scope=".posekit-explorer"), top,
                           w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]), self.readouts,
                           SharePanel(self, "explorer-state")])
         self.add_class("posekit-explorer")

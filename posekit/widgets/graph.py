@@ -10,7 +10,6 @@ keyboard (Tab to a control; arrow keys in a list; Space or Enter on a button).
 
 from __future__ import annotations
 
-import anywidget
 import ipywidgets as w
 import plotly.graph_objects as go
 import traitlets as t
@@ -21,7 +20,7 @@ from ..core.errors import PoseInputError, WrongTypeError
 from ..core.reading import as_convention
 from ..view.graph import graph_figure, graph_traces, loop_check_html, readout_html
 from ..view.readouts import words_html
-from .controls import ConventionBar
+from .controls import ConventionBar, KeyboardScope
 
 __all__ = ["GraphExplorer", "EDGE_FIELDS", "KeyboardScope"]
 
@@ -34,41 +33,6 @@ EDGE_FIELDS = {
 }
 READOUT_FIELDS = ("direction", "sequence", "axes", "unit", "scalar", "algebra", "action", "layout")
 PLANAR_READOUT_FIELDS = ("direction", "unit", "action", "layout")
-
-
-class KeyboardScope(anywidget.AnyWidget):
-    """An empty element that keeps JupyterLab's notebook shortcuts off the enclosing widget's controls.
-
-    In JupyterLab's command mode ArrowUp/ArrowDown and many letters are notebook
-    shortcuts, so a focused list box would not move its choice (ArrowDown jumps to the
-    next cell instead).  Lumino skips shortcut matching from an element marked
-    ``data-lm-suppress-shortcuts`` upwards; this marks every select, button and input
-    inside the nearest ancestor matching ``scope`` (a CSS selector), now and as the
-    controls are rebuilt.
-    """
-
-    _esm = """
-    export default {
-      render({ model, el }) {
-        let inner = null;
-        const markAll = (host) => host.querySelectorAll("select, button, input").forEach(
-          (n) => { if (!n.hasAttribute("data-lm-suppress-shortcuts")) n.setAttribute("data-lm-suppress-shortcuts", "true"); });
-        const start = () => {
-          const host = el.closest(model.get("scope"));
-          if (!host) return false;
-          markAll(host);
-          inner = new MutationObserver(() => markAll(host));
-          inner.observe(host, { childList: true, subtree: true });
-          return true;
-        };
-        if (start()) return () => inner.disconnect();
-        const outer = new MutationObserver(() => { if (start()) outer.disconnect(); });
-        outer.observe(document.body, { childList: true, subtree: true });
-        return () => { outer.disconnect(); if (inner) inner.disconnect(); };
-      }
-    };
-    """
-    scope = t.Unicode(".posekit-graph-explorer").tag(sync=True)
 
 
 def _edge_label(graph: FrameGraph, i: int) -> str:

@@ -18,7 +18,7 @@ from ..core.transforms import checked_transform, invert_transform, make_planar, 
 from ..view.frames import planar_figure
 from ..view.readouts import STYLE_SHEET, matrix_html, panel_html, words_html
 from ..analysis.state import NamedPose, State, StateFileError, environment_versions
-from .controls import NumberRow
+from .controls import KeyboardScope, NumberRow
 from .sharing import SharePanel, python_call
 
 __all__ = ["PlanarExplorer"]
@@ -63,7 +63,7 @@ class PlanarExplorer(w.VBox):
         left = w.VBox([w.HTML("<b>Frame in the plane</b>")] + list(self.rows.values()) +
                       [w.HTML("<b>Heading unit</b>"), self.unit_choice, w.HTML("<b>Matrix direction</b>"),
                        self.direction_choice, self.readouts], layout=w.Layout(width="470px", min_width="470px"))
-        super().__init__([w.HTML(STYLE_SHEET), w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]),
+        super().__init__([w.HTML(STYLE_SHEET), KeyboardScope(scope=".posekit-planar"), w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]),
                           SharePanel(self, "planar-state")])
         self.add_class("posekit-planar")
         with self.hold_trait_notifications():

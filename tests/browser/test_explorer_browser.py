@@ -82,6 +82,15 @@ def test_slider_moves_with_keyboard_and_plot_matches_core(lab, artifacts):
     moved = _page_frame(lab, page)
     # expected from posekit's core for the angles the page now shows
     _assert_frame(moved, read_rotation([31.0, -10.0, 0.0], "euler", CONV))
+    # a convention setting by keyboard alone: the sequence list, next choice with ArrowDown
+    page.locator(".posekit-setting-sequence select").focus()
+    before = _page_frame(lab, page)
+    page.keyboard.press("ArrowDown")
+    page.wait_for_function(
+        "([sel, old]) => { const gd = document.querySelector(sel + ' .js-plotly-plot');"
+        " return JSON.stringify(Array.from(gd.data[1].x)) !== old; }", arg=[SEL, _json_x(before)])
+    assert page.locator(".posekit-setting-sequence select").input_value() == "x-y-x"
+    _assert_frame(_page_frame(lab, page), read_rotation([31.0, -10.0, 0.0], "euler", "sequence=x-y-x unit=degrees"))
     page.screenshot(path=str(artifacts / "explorer-after-keyboard.png"), full_page=True)
     page.close()
 
