@@ -3,3 +3,4 @@
 from .explorer import Explorer
 
 __all__ = ["Explorer"]
+from .side_by_side import SingularityView; __all__ += ["SingularityView"]  # noqa: E402,E702
