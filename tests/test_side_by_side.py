@@ -304,8 +304,16 @@ def test_widget_figures_follow_every_sweep_change():
 def test_unit_change_keeps_the_orientation_and_sequence_change_follows_the_pole():
     view = SingularityView(angles=(30.0, 0.0, 20.0), position=25)
     before = view.current_rotation()
+    old_row = view.angle_rows[0]
     view.bar.controls["unit"].value = "radians"
     assert view.convention_value().unit == "radians"
+    np.testing.assert_allclose(view.angles, np.radians([30.0, 0.0, 20.0]), atol=1e-15)
+    # fresh sliders in the new unit; a late echo from the old degree slider changes nothing
+    row = view.angle_rows[0]
+    assert row is not old_row and (row.slider.step, row.box.value) == (0.01, view.angles[0])
+    angles = view.angles
+    old_row.slider.value = 1.0
+    assert view.angles == angles
     np.testing.assert_allclose(view.sweep_range, np.radians([60.0, 120.0]), atol=1e-15)
     assert float(pk.angle_between(view.current_rotation(), before)) < 1e-12
     _check_figures(view)

@@ -220,16 +220,25 @@ def _notes(s: Sweep, x):
              for i, dom in enumerate(_domains())]  # the white ground keeps the step line out of the titles
     notes.append(dict(x=0.0, y=1.0, xref="x", yref="paper", yanchor="bottom", yshift=16, showarrow=False,
                       text="", font=dict(size=12, color="#333333"), bgcolor="rgba(255,255,255,0.85)"))
+    lo, hi = float(np.min(x)), float(np.max(x))
+
+    def beside(i):
+        """Label position beside band i: to its right, or to its left near the right edge (legends)."""
+        a, b = sorted((float(x[i - 1]), float(x[i])))
+        if hi > lo and (0.5 * (a + b) - lo) / (hi - lo) > 0.7:
+            return dict(x=a, xanchor="right")
+        return dict(x=b, xanchor="left")
+
     for i in np.flatnonzero(s.euler_jumps):
-        notes.append(dict(x=float(x[i]), y=0.97, xref="x", yref="y domain", xanchor="left", yanchor="top",
-                          showarrow=False, text="readback jumps", font=dict(size=11, color="#7a4b00"),
-                          bgcolor="rgba(255,255,255,0.8)"))
+        notes.append(dict(beside(i), y=0.97, xref="x", yref="y domain", yanchor="top", showarrow=False,
+                          text="readback jumps", font=dict(size=11, color="#7a4b00"), bgcolor="rgba(255,255,255,0.8)"))
     for i in np.flatnonzero(s.quaternion_jumps):
-        notes.append(dict(x=float(x[i]), y=0.03, xref="x", yref="y2 domain", xanchor="left", yanchor="bottom",
-                          showarrow=False, text="written q flips sign", font=dict(size=11, color="#1d5a80")))
+        notes.append(dict(beside(i), y=0.03, xref="x", yref="y2 domain", yanchor="bottom", showarrow=False,
+                          text="written q flips sign", font=dict(size=11, color="#1d5a80"),
+                          bgcolor="rgba(255,255,255,0.8)"))
     for i in np.flatnonzero(s.matrix_jumps):
-        notes.append(dict(x=float(x[i]), y=0.03, xref="x", yref="y3 domain", xanchor="left", yanchor="bottom",
-                          showarrow=False, text="matrix jumps", font=dict(size=11, color="#6b2d58")))
+        notes.append(dict(beside(i), y=0.03, xref="x", yref="y3 domain", yanchor="bottom", showarrow=False,
+                          text="matrix jumps", font=dict(size=11, color="#6b2d58"), bgcolor="rgba(255,255,255,0.8)"))
     return notes
 
 

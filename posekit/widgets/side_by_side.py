@@ -31,7 +31,8 @@ from ..core.convention import Convention
 from ..core.errors import PoseInputError
 from ..core.reading import as_convention, read_rotation, write_rotation
 from ..view.readouts import gauge_html, matrix_html, numbers_html, panel_html, words_html
-from ..view.sweep import SWEEP_TRACES, angle_name, apply_patch, family_data, family_figure, step_marks, sweep_figure, sweep_patch
+from ..view.sweep import (SWEEP_TRACES, angle_name, apply_patch, family_data, family_figure, step_marks, sweep_figure,
+                          sweep_patch)
 from .controls import ConventionBar, NumberRow
 
 __all__ = ["SingularityView", "StepReadout", "SweepSetupError", "BAR_FIELDS", "MAX_STEPS"]
@@ -169,20 +170,17 @@ class SingularityView(w.VBox):
         self.swept_choice = w.Dropdown(options=self._swept_options(conv), value=swept,
                                        layout=w.Layout(width="250px"))
         self.swept_choice.add_class("posekit-swept")
-        self.range_from = w.FloatText(value=rng[0], step=None, layout=w.Layout(width="86px"))
-        self.range_to = w.FloatText(value=rng[1], step=None, layout=w.Layout(width="86px"))
+        self.range_from = w.FloatText(value=rng[0], step=None, layout=w.Layout(width="150px"))
+        self.range_to = w.FloatText(value=rng[1], step=None, layout=w.Layout(width="150px"))
         self.range_from.add_class("posekit-range-from")
         self.range_to.add_class("posekit-range-to")
         self.steps_box = w.BoundedIntText(value=steps, min=2, max=MAX_STEPS, layout=w.Layout(width="76px"))
         self.steps_box.add_class("posekit-steps")
-        self.centre_button = w.Button(description="centre on the pole", layout=w.Layout(width="auto"),
+        self.centre_button = w.Button(description="centre on the pole",
+                                      layout=w.Layout(width="auto", margin="0 0 0 16px"),
                                       tooltip="sweep the same width, centred on the pole nearest the range")
         self.centre_button.add_class("posekit-centre")
-        self.angle_rows = [NumberRow(self._row_label(conv, i), held[i], *self._row_range(conv), f"held-{i + 1}")
-                           for i in range(3)]
-        for row in self.angle_rows:  # room for the longer labels ("turn 3 about new x (roll)")
-            row.label.layout.width = "225px"
-            row.slider.layout.width = "125px"
+        self.angle_rows = self._new_rows(conv, held)
         self.position_slider = w.IntSlider(value=pos, min=0, max=steps - 1, step=1, readout=False,
                                            continuous_update=True, layout=w.Layout(width="430px"))
         self.position_slider.add_class("posekit-position")
@@ -211,16 +209,19 @@ class SingularityView(w.VBox):
         self._sweep_box.add_class("posekit-sweep-plot")
         self._family_box = w.Box([self.family])
         self._family_box.add_class("posekit-family-plot")
-        range_row = w.HBox([w.Label("from"), self.range_from, w.Label("to"), self.range_to, w.Label("in"),
-                            self.steps_box, w.Label("steps")], layout=w.Layout(align_items="center"))
+        range_row = w.HBox([w.Label("range from", layout=w.Layout(width="80px")), self.range_from, w.Label("to"),
+                            self.range_to], layout=w.Layout(align_items="center"))
+        steps_row = w.HBox([w.Label("steps", layout=w.Layout(width="80px")), self.steps_box, self.centre_button],
+                           layout=w.Layout(align_items="center"))
         position_row = w.VBox([w.HTML("<b>Position along the sweep</b> "
                                       "<span style='color:#777'>(arrow keys: one step)</span>"), self.position_slider])
+        self._rows_box = w.VBox(self.angle_rows)
         left = w.VBox([
             w.HTML("<b>Sweep</b>"),
-            w.HBox([w.Label("sweep", layout=w.Layout(width="60px")), self.swept_choice],
+            w.HBox([w.Label("sweep", layout=w.Layout(width="80px")), self.swept_choice],
                    layout=w.Layout(align_items="center")),
-            range_row, w.HBox([self.centre_button]),
-            w.HTML("<b>Held angles</b> (the swept one is set by the sweep)"), *self.angle_rows,
+            range_row, steps_row,
+            w.HTML("<b>Held angles</b> (the swept one is set by the sweep)"), self._rows_box,
             position_row, self.position_words, self.status,
             w.HTML("<b>Equivalent triplets</b>: first vs third angle"), self._family_box, self.family_words,
         ], layout=w.Layout(width="450px", min_width="450px", padding="0 10px 0 0"))
@@ -246,9 +247,7 @@ class SingularityView(w.VBox):
         self.range_to.observe(lambda ch: self._on_range_box(), "value")
         self.steps_box.observe(self._on_steps_box, "value")
         self.centre_button.on_click(lambda b: self.centre_on_pole())
-        for i, row in enumerate(self.angle_rows):
-            row.slider.observe(lambda ch, i=i: self._set_held(i, ch["new"], True), "value")
-            row.box.observe(lambda ch, i=i: self._set_held(i, ch["new"], False), "value")
+        self._wire_rows()
         self.position_slider.observe(self._on_position_slider, "value")
         self.observe(self._on_sweep_traits, ["convention", "swept", "angles", "sweep_range", "steps"])
         self.observe(self._on_position, ["position"])
@@ -374,9 +373,22 @@ class SingularityView(w.VBox):
             return
         self.steps = _check_steps(int(change["new"]))  # the box is bounded to the accepted range
 
-    def _set_held(self, i: int, value: float, from_slider: bool) -> None:
-        if self._syncing:
-            return
+    def _new_rows(self, conv: Convention, values) -> list:
+        rows = [NumberRow(self._row_label(conv, i), float(values[i]), *self._row_range(conv), f"held-{i + 1}")
+                for i in range(3)]
+        for row in rows:  # room for the longer labels ("turn 3 about new x (roll)")
+            row.label.layout.width = "225px"
+            row.slider.layout.width = "125px"
+        return rows
+
+    def _wire_rows(self) -> None:
+        for i, row in enumerate(self.angle_rows):
+            row.slider.observe(lambda ch, i=i, row=row: self._set_held(i, ch["new"], True, row), "value")
+            row.box.observe(lambda ch, i=i, row=row: self._set_held(i, ch["new"], False, row), "value")
+
+    def _set_held(self, i: int, value: float, from_slider: bool, row=None) -> None:
+        if self._syncing or (row is not None and row is not self.angle_rows[i]):
+            return  # a row replaced on a unit change may still hear from its old page view
         a = list(self.angles)
         if from_slider and _is_snap(self.angle_rows[i].slider, a[i], value):
             return
@@ -444,12 +456,13 @@ class SingularityView(w.VBox):
         self._syncing = True
         try:
             s = self.position_slider
-            if s.max != self.steps - 1:
-                if self.steps - 1 < s.value:
+            with s.hold_sync():  # range and value in one message (see _sync_controls)
+                if s.max != self.steps - 1:
+                    if self.steps - 1 < s.value:
+                        s.value = self.position
+                    s.max = self.steps - 1
+                if s.value != self.position:
                     s.value = self.position
-                s.max = self.steps - 1
-            if s.value != self.position:
-                s.value = self.position
         finally:
             self._syncing = False
 
@@ -463,8 +476,18 @@ class SingularityView(w.VBox):
                 self.swept_choice.options = options
             self.swept_choice.value = self.swept
             lo, hi, step = self._row_range(conv)
+            s0 = self.angle_rows[0].slider
+            if (s0.min, s0.max, s0.step) != (lo, hi, step):
+                # new unit: fresh sliders built with their final range, step and value in one go.
+                # Re-ranging a live slider lets the page snap the value to the old step grid and send
+                # that back, where it cannot be told from a real move (seen in JupyterLab 4.6).
+                for row in self.angle_rows:
+                    for part in (*row.children, row):
+                        part.close()
+                self.angle_rows = self._new_rows(conv, self.angles)
+                self._rows_box.children = self.angle_rows
+                self._wire_rows()
             for i, row in enumerate(self.angle_rows):
-                row.set_range(lo, hi, step)
                 row.label.value = self._row_label(conv, i)
                 row.layout.display = "none" if i == self.swept else None
                 v = self.angles[i]

@@ -122,4 +122,20 @@ def test_position_slider_by_keyboard_shows_the_jump_where_the_sweep_says(lab, ar
     np.testing.assert_allclose([family[2]["x"][0], family[2]["y"][0]], expected.euler[step + 1, [0, 2]], atol=1e-9)
     page.wait_for_timeout(400)
     page.locator(SEL).screenshot(path=str(artifacts / "side-by-side-after-jump.png"))
+    # switch the unit in the page: the held angles keep their meaning (converted, not snapped to the
+    # old slider grid and echoed back) and the plot redraws the same sweep in radians
+    page.locator(".posekit-setting-unit button", has_text="radians").click()
+    rad = sweep_one_angle(np.radians(HELD), 1, np.radians(VALUES), CONV.replace("degrees", "radians"))
+    page.wait_for_function(
+        "([sel, want]) => { const gd = document.querySelector(sel + ' .js-plotly-plot');"
+        " return Math.abs(gd.data[0].x[0] - want) < 1e-12; }", arg=[SWEEP_PLOT, float(rad.parameter[0])],
+        timeout=30_000)
+    page.wait_for_timeout(1500)  # room for any late slider echo to arrive and (wrongly) apply
+    held = [float(page.locator(f".posekit-number-held-{i} input").input_value()) for i in (1, 3)]
+    np.testing.assert_allclose(held, np.radians([HELD[0], HELD[2]]), rtol=0, atol=1e-15)
+    data = lab.plot_data(page, SWEEP_PLOT)
+    euler = np.stack([_numbers(data[i]["y"]) for i in SWEEP_TRACES["euler"]], axis=-1)
+    np.testing.assert_allclose(euler, rad.euler, atol=1e-12)
+    # no observer raised on the way (an exception would show as error output in the cell)
+    assert page.locator(".jp-OutputArea-output[data-mime-type='application/vnd.jupyter.stderr']").count() == 0
     page.close()
