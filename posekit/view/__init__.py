@@ -12,3 +12,7 @@ from .trajectory import FLAG_STYLES, FlaggedSpan, flagged_spans, row_rotation, t
 
 __all__ += ["error_html", "parsed_html", "residual_figure", "FLAG_STYLES", "FlaggedSpan", "flagged_spans",
             "row_rotation", "trajectory_figure"]
+
+from .sweep import angle_name, family_figure, sweep_figure  # noqa: E402
+
+__all__ += ["angle_name", "family_figure", "sweep_figure"]

@@ -14,3 +14,7 @@ __all__ += ["DebugDesk"]
 from .trajectory_view import TrajectoryView  # noqa: E402
 
 __all__ += ["TrajectoryView"]
+
+from .side_by_side import SingularityView  # noqa: E402
+
+__all__ += ["SingularityView"]
