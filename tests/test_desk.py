@@ -252,3 +252,13 @@ def test_code_cell_rebuilds_the_same_desk_in_a_fresh_kernel():
 def test_bad_settings_raise_typed_errors(options, words):
     with pytest.raises(pk.PoseInputError, match=words):
         DebugDesk(**options)
+
+
+def test_observed_may_be_text_and_bad_observed_numbers_raise_typed_errors():
+    from posekit.core.errors import PoseInputError
+    from posekit.widgets import DebugDesk
+
+    text = "0.0 0.0 0.7071068 0.7071068"
+    assert DebugDesk(observed=text).pasted == DebugDesk(pasted=text).pasted == text
+    with pytest.raises(PoseInputError, match="ragged|unequal|rectangular"):
+        DebugDesk(observed=[[1, 2], [3]])

@@ -87,20 +87,41 @@ class NumberRow(w.HBox):
 
     def __init__(self, label: str, value: float, lo: float, hi: float, step: float, css: str):
         self.label = w.HTML(label, layout=w.Layout(width="175px"))
-        self.slider = w.FloatSlider(value=min(max(value, lo), hi), min=lo, max=hi, step=step, readout=False,
-                                    continuous_update=True, layout=w.Layout(width="170px"))
-        self.slider.add_class(f"posekit-slider-{css}")
+        self._css = css
+        self._slider_observers = []
+        self.slider = self._make_slider(value, lo, hi, step)
         self.box = w.FloatText(value=value, step=None, layout=w.Layout(width="86px"))  # step=None: no rounding in the page
         self.box.add_class(f"posekit-number-{css}")
         super().__init__([self.label, self.slider, self.box], layout=w.Layout(align_items="center"))
 
-    def set_range(self, lo: float, hi: float, step: float) -> None:
+    def _make_slider(self, value: float, lo: float, hi: float, step: float) -> w.FloatSlider:
+        slider = w.FloatSlider(value=min(max(value, lo), hi), min=lo, max=hi, step=step, readout=False,
+                               continuous_update=True, layout=w.Layout(width="170px"))
+        slider.add_class(f"posekit-slider-{self._css}")
+        return slider
+
+    def observe_slider(self, callback) -> None:
+        """Call ``callback(change)`` on slider moves; kept across :meth:`set_range`."""
+        self._slider_observers.append(callback)
+        self.slider.observe(callback, "value")
+
+    def set_range(self, lo: float, hi: float, step: float, value: float | None = None) -> None:
+        """Give the slider a new range and step by building a fresh one.
+
+        Re-ranging a live slider lets the page snap its value to the old step grid and send
+        that back, which would look like a real move (seen when the angle unit changes).
+        """
         s = self.slider
-        if lo > s.max:
-            s.max, s.min = hi, lo
-        else:
-            s.min, s.max = lo, hi
-        s.step = step
+        if (s.min, s.max, s.step) == (lo, hi, step):
+            return
+        current = s.value if value is None else value
+        for cb in self._slider_observers:
+            s.unobserve(cb, "value")
+        self.slider = self._make_slider(current, lo, hi, step)
+        for cb in self._slider_observers:
+            self.slider.observe(cb, "value")
+        self.children = (self.label, self.slider, self.box)
+        s.close()
 
 
 class KeyboardScope(anywidget.AnyWidget):

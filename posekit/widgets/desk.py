@@ -26,6 +26,7 @@ from ..analysis.diagnose import (BatchDiagnosis, Diagnosis, ExpectedPose, diagno
 from ..analysis.parse import ParsedNumbers, parse_numbers
 from ..analysis.state import NamedPose, State, StateFileError, environment_versions
 from ..core.convention import Convention
+from ..core.checks import as_numbers
 from ..core.errors import PoseInputError
 from ..core.reading import as_convention, write_rotation
 from ..core.transforms import Pose, make_transform, write_transform
@@ -151,10 +152,14 @@ class DebugDesk(w.VBox):
         if len(matrix) != 16:
             raise PoseInputError(f"expected_matrix: got {len(matrix)} numbers; expected the 16 of a 4x4 transform")
         # --- what was passed in becomes the text and settings the desk shows --------------
+        if isinstance(observed, str):  # text as printed somewhere: it goes into the paste box as is
+            if pasted:
+                raise PoseInputError("pass either observed numbers or pasted text, not both")
+            pasted, observed = observed, None
         if observed is not None:
             if pasted:
                 raise PoseInputError("pass either observed numbers or pasted text, not both")
-            arr = np.asarray(observed, dtype=float)
+            arr = as_numbers(observed, "observed numbers", None)
             many = arr.ndim >= 2 and not (arr.ndim == 2 and arr.shape in ((3, 3), (4, 4), (3, 4)))
             pasted = _numbers_text(arr if many else arr.reshape(-1))
             pairs = pairs or ("many" if many else "one")

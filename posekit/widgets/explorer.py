@@ -113,10 +113,10 @@ class Explorer(w.VBox):
             self.palette = palette
 
         for i, row in enumerate(self.angle_rows):
-            row.slider.observe(lambda ch, i=i: self._set_angle(i, ch["new"], from_slider=True), "value")
+            row.observe_slider(lambda ch, i=i: self._set_angle(i, ch["new"], from_slider=True))
             row.box.observe(lambda ch, i=i: self._set_angle(i, ch["new"], from_slider=False), "value")
         for i, row in enumerate(self.translation_rows):
-            row.slider.observe(lambda ch, i=i: self._set_move(i, ch["new"], True), "value")
+            row.observe_slider(lambda ch, i=i: self._set_move(i, ch["new"], True))
             row.box.observe(lambda ch, i=i: self._set_move(i, ch["new"], False), "value")
         for ctl in self.bar.controls.values():
             ctl.observe(self._on_setting, "value")
@@ -247,7 +247,7 @@ class Explorer(w.VBox):
         try:
             lo, hi, step = _ranges(conv)
             for i, row in enumerate(self.angle_rows):
-                row.set_range(lo, hi, step)
+                row.set_range(lo, hi, step, min(max(self.angles[i], lo), hi))
                 row.label.value = self._angle_label(conv, i)
                 v = self.angles[i]
                 sv = min(max(v, lo), hi)

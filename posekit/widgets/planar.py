@@ -69,7 +69,7 @@ class PlanarExplorer(w.VBox):
         with self.hold_trait_notifications():
             self.x, self.y, self.heading, self.unit, self.direction = float(x), float(y), float(heading), unit, direction
         for name, row in self.rows.items():
-            row.slider.observe(lambda ch, n=name: self._set(n, ch["new"], True), "value")
+            row.observe_slider(lambda ch, n=name: self._set(n, ch["new"], True))
             row.box.observe(lambda ch, n=name: self._set(n, ch["new"], False), "value")
         self.unit_choice.observe(self._on_unit, "value")
         self.direction_choice.observe(lambda ch: setattr(self, "direction", ch["new"]), "value")
@@ -127,7 +127,7 @@ class PlanarExplorer(w.VBox):
             self.heading = self.heading * factor
         self._syncing = True
         try:
-            row.set_range(-lim, lim, 1.0 if change["new"] == "degrees" else 0.01)
+            row.set_range(-lim, lim, 1.0 if change["new"] == "degrees" else 0.01, min(max(self.heading, -lim), lim))
             row.label.value = f"heading <span style='color:#888'>{'deg' if change['new'] == 'degrees' else 'rad'}</span>"
         finally:
             self._syncing = False

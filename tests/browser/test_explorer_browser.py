@@ -119,5 +119,15 @@ def test_convention_toggle_keep_numbers_then_keep_orientation(lab, artifacts):
     np.testing.assert_allclose(_box_values(page), want, atol=1e-6)
     _assert_frame(_page_frame(lab, page), extrinsic)
     assert not np.allclose(want, [30.0, -10.0, 0.0], atol=1e-3)  # the numbers really changed
+    # keep the orientation across a unit change: the numbers become exact radians
+    page.locator(".posekit-setting-unit button", has_text="radians").click()
+    rad = np.radians(want)
+    page.wait_for_function(
+        "(want) => [1, 2, 3].every(i => Math.abs(parseFloat(document.querySelector("
+        "'.posekit-number-angle-' + i + ' input').value) - want[i - 1]) < 1e-6)",
+        arg=[float(v) for v in rad], timeout=30_000)
+    page.wait_for_timeout(1500)  # let any slider echo from the page arrive
+    np.testing.assert_allclose(_box_values(page), rad, atol=1e-6)
+    _assert_frame(_page_frame(lab, page), extrinsic)
     page.screenshot(path=str(artifacts / "explorer-after-toggles.png"), full_page=True)
     page.close()
