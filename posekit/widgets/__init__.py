@@ -1,20 +1,10 @@
 """Widget layer: ipywidgets glue over posekit's analysis and view layers. No math of its own."""
 
+from .desk import DebugDesk
 from .explorer import Explorer
+from .graph import GraphExplorer
 from .planar import PlanarExplorer
+from .side_by_side import SingularityView
+from .trajectory_view import TrajectoryView
 
-__all__ = ["Explorer", "PlanarExplorer"]
-
-from .graph import GraphExplorer  # noqa: E402
-
-__all__ += ["GraphExplorer"]
-from .desk import DebugDesk  # noqa: E402
-
-__all__ += ["DebugDesk"]
-from .trajectory_view import TrajectoryView  # noqa: E402
-
-__all__ += ["TrajectoryView"]
-
-from .side_by_side import SingularityView  # noqa: E402
-
-__all__ += ["SingularityView"]
+__all__ = ["DebugDesk", "Explorer", "GraphExplorer", "PlanarExplorer", "SingularityView", "TrajectoryView"]

@@ -33,7 +33,7 @@ from ..core.transforms import Pose, make_transform, write_transform
 from ..view.diagnosis import error_html, parsed_html, residual_figure
 from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET, matrix_html, panel_html
-from .controls import ConventionBar
+from .controls import ConventionBar, KeyboardScope
 from .sharing import SharePanel, python_call
 
 __all__ = ["DebugDesk", "EXPECTED_KINDS", "DESK_FIELDS"]
@@ -235,7 +235,8 @@ class DebugDesk(w.VBox):
         top = w.VBox([w.HTML("<div class='pk-section'>Your convention — how you wrote the expected numbers and "
                              "how you read the ones you got</div>"), self.bar])
         self.share = _DeskShare(self, "desk-state")
-        super().__init__([w.HTML(STYLE_SHEET + DESK_CSS), top, w.HBox([left, right]), self.share])
+        super().__init__([w.HTML(STYLE_SHEET + DESK_CSS), KeyboardScope(scope=".posekit-desk"), top,
+                          w.HBox([left, right]), self.share])
         self.add_class("posekit-desk")
 
         with self.hold_trait_notifications():

@@ -33,7 +33,7 @@ from ..core.reading import as_convention, read_rotation, write_rotation
 from ..view.readouts import gauge_html, matrix_html, numbers_html, panel_html, words_html
 from ..view.sweep import (SWEEP_TRACES, angle_name, apply_patch, family_data, family_figure, step_marks, sweep_figure,
                           sweep_patch)
-from .controls import ConventionBar, NumberRow
+from .controls import ConventionBar, KeyboardScope, NumberRow
 
 __all__ = ["SingularityView", "StepReadout", "SweepSetupError", "BAR_FIELDS", "MAX_STEPS"]
 
@@ -227,7 +227,7 @@ class SingularityView(w.VBox):
         ], layout=w.Layout(width="450px", min_width="450px", padding="0 10px 0 0"))
         self.bar.layout.grid_template_columns = "repeat(auto-fill, minmax(520px, 1fr))"  # two columns, no wrapping
         top = w.VBox([w.HTML("<b>Convention</b> (the fields that change what the sweep shows)"), self.bar])
-        super().__init__([top, w.HBox([left, self._sweep_box]),
+        super().__init__([top, KeyboardScope(scope=".posekit-singularity"), w.HBox([left, self._sweep_box]),
                           self.readouts, self.summary_words])
         self.add_class("posekit-singularity")
 

@@ -24,6 +24,7 @@ from ..core.transforms import make_transform
 from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET
 from ..view.trajectory import FLAG_STYLES, flagged_spans, row_rotation, trajectory_figure
+from .controls import KeyboardScope
 
 __all__ = ["TrajectoryView"]
 
@@ -82,7 +83,7 @@ class TrajectoryView(w.VBox):
         details = w.Accordion(children=[summary])
         details.set_title(0, "the whole report in words")
         css = w.HTML("<style>.posekit-trajectory-view .widget-html-content { line-height: 1.35; }</style>")
-        super().__init__([w.HTML(STYLE_SHEET), css, head,
+        super().__init__([w.HTML(STYLE_SHEET), KeyboardScope(scope=".posekit-trajectory-view"), css, head,
                           series_box, w.HBox([side, pose_box]), details])
         self.add_class("posekit-trajectory-view")
         self.span_list.observe(lambda ch: setattr(self, "chosen_span", int(ch["new"])), "value")
