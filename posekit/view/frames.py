@@ -26,6 +26,7 @@ __all__ = [
     "body_trace",
     "frame_figure",
     "planar_figure",
+    "planar_frame_trace",
     "palette_colours",
 ]
 
@@ -174,6 +175,31 @@ def frame_figure(rotation, origin=None, *, reference: bool = True, body: bool = 
     return fig
 
 
+def planar_frame_trace(m, name: str, colours, scale: float = 1.0, *, opacity: float = 1.0, width: float = 4.0,
+                       letters: bool = True, suffix: str = "", dash: str | None = None, tip_size: int = 9,
+                       font_size: int = 12) -> go.Scatter:
+    """Top-down arrows of one SE(2) frame ``m (3, 3)``: x and y with letters and tip shapes."""
+    o = m[:2, 2]
+    xs, ys, text, cols, sizes, syms = [], [], [], [], [], []
+    for k in range(2):
+        if k:
+            xs.append(None), ys.append(None), text.append(""), cols.append(colours[k])
+            sizes.append(0), syms.append("circle")
+        tip = o + scale * m[:2, k]
+        xs += [float(o[0]), float(tip[0])]
+        ys += [float(o[1]), float(tip[1])]
+        text += ["", (LETTERS[k] + suffix) if letters else ""]
+        cols += [colours[k], colours[k]]
+        sizes += [0, tip_size]
+        syms += [TIP_SYMBOLS[k], TIP_SYMBOLS[k]]
+    line = dict(color="#555555", width=width)
+    if dash:
+        line["dash"] = dash
+    return go.Scatter(x=xs, y=ys, mode="lines+markers+text", name=name, text=text, textposition="top center",
+                      line=line, marker=dict(color=cols, size=sizes, symbol=syms),
+                      textfont=dict(color=cols, size=font_size), opacity=opacity, hoverinfo="name")
+
+
 def planar_figure(transform, *, reference: bool = True, palette: str = "standard", scale: float = 1.0,
                   title: str | None = None, extent: float | None = None, height: int = 420) -> go.Figure:
     """Top-down view of an SE(2) frame ``transform (3, 3)``: x and y arrows with letters.
@@ -185,28 +211,11 @@ def planar_figure(transform, *, reference: bool = True, palette: str = "standard
     t = checked_transform(transform, size=3)
     colours = palette_colours(palette)
 
-    def arrows(m, name, opacity, width, suffix):
-        o = m[:2, 2]
-        xs, ys, text, cols, sizes, syms = [], [], [], [], [], []
-        for k in range(2):
-            if k:
-                xs.append(None), ys.append(None), text.append(""), cols.append(colours[k])
-                sizes.append(0), syms.append("circle")
-            tip = o + scale * m[:2, k]
-            xs += [float(o[0]), float(tip[0])]
-            ys += [float(o[1]), float(tip[1])]
-            text += ["", LETTERS[k] + suffix]
-            cols += [colours[k], colours[k]]
-            sizes += [0, 11]
-            syms += [TIP_SYMBOLS[k], TIP_SYMBOLS[k]]
-        return go.Scatter(x=xs, y=ys, mode="lines+markers+text", name=name, text=text, textposition="top center",
-                          line=dict(color="#555555", width=width), marker=dict(color=cols, size=sizes, symbol=syms),
-                          textfont=dict(color=cols, size=14), opacity=opacity)
-
     traces = []
     if reference:
-        traces.append(arrows(np.eye(3), "parent frame", 0.35, 2, "\u2080"))
-    traces.append(arrows(t, "frame", 1.0, 4, ""))
+        traces.append(planar_frame_trace(np.eye(3), "parent frame", colours, scale, opacity=0.35, width=2,
+                                         suffix="\u2080", tip_size=11, font_size=14))
+    traces.append(planar_frame_trace(t, "frame", colours, scale, width=4, tip_size=11, font_size=14))
     if extent is None:
         extent = max(SCENE_RANGE * scale, float(np.max(np.abs(t[:2, 2]))) + 1.2 * scale)
     fig = go.Figure(data=traces)

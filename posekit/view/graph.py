@@ -27,7 +27,7 @@ import plotly.graph_objects as go
 
 from ..analysis.frames_graph import FrameGraph, Lookup, LoopCheck, Readout
 from ..core.errors import PoseInputError, WrongTypeError
-from .frames import LETTERS, TIP_SYMBOLS, frame_trace, palette_colours
+from .frames import frame_trace, palette_colours, planar_frame_trace
 from .readouts import matrix_html, numbers_html, panel_html, words_html
 
 __all__ = ["graph_figure", "graph_traces", "readout_html", "loop_check_html", "PATH_COLOUR", "FIRST_FRAME_TRACE"]
@@ -73,25 +73,8 @@ def _polyline(points_list, dim: int) -> tuple[list, ...]:
 
 def _planar_frame_trace(m: np.ndarray, name: str, colours, scale: float, opacity: float = 1.0,
                         width: float = 4.0, letters: bool = True, dash: str | None = None) -> go.Scatter:
-    o = m[:2, 2]
-    xs, ys, text, cols, sizes, syms = [], [], [], [], [], []
-    for k in range(2):
-        if k:
-            xs.append(None), ys.append(None), text.append(""), cols.append(colours[k])
-            sizes.append(0), syms.append("circle")
-        tip = o + scale * m[:2, k]
-        xs += [float(o[0]), float(tip[0])]
-        ys += [float(o[1]), float(tip[1])]
-        text += ["", LETTERS[k] if letters else ""]
-        cols += [colours[k], colours[k]]
-        sizes += [0, 9]
-        syms += [TIP_SYMBOLS[k], TIP_SYMBOLS[k]]
-    line = dict(color="#555555", width=width * 0.6)
-    if dash:
-        line["dash"] = dash
-    return go.Scatter(x=xs, y=ys, mode="lines+markers+text", name=name, text=text, textposition="top center",
-                      line=line, marker=dict(color=cols, size=sizes, symbol=syms), textfont=dict(color=cols, size=12),
-                      opacity=opacity, hoverinfo="name")
+    return planar_frame_trace(m, name, colours, scale, opacity=opacity, width=width * 0.6, letters=letters,
+                              dash=dash)
 
 
 def graph_traces(graph: FrameGraph, *, root: str | None = None, lookup: Lookup | None = None,
