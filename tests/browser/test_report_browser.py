@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import tempfile
 from pathlib import Path
 
 import pytest
@@ -10,8 +9,6 @@ import pytest
 import posekit as pk
 from posekit.analysis.state import NamedPose, State
 from posekit.view.report import write_report
-
-from harness import CHROMIUM_FLAGS, find_chromium
 
 HOSTILE = "<img src=x onerror=alert(1)>"
 
@@ -26,28 +23,24 @@ def report(tmp_path_factory):
     return write_report(state, path, diagnosis=[f"frame {HOSTILE} was entered backwards"])
 
 
-def test_report_renders_offline_and_escapes_user_text(report, artifacts):
-    from playwright.sync_api import sync_playwright
-
+def test_report_renders_offline_and_escapes_user_text(lab, report, artifacts):
+    # the session's Chromium (one Playwright per process); a new page with its own listeners
     requests, dialogs, errors = [], [], []
-    with sync_playwright() as p, tempfile.TemporaryDirectory() as profile:
-        ctx = p.chromium.launch_persistent_context(profile, executable_path=find_chromium(), headless=True,
-                                                   args=CHROMIUM_FLAGS, viewport={"width": 1200, "height": 900})
-        page = ctx.new_page()
-        page.on("request", lambda r: requests.append(r.url))
-        page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
-        page.on("pageerror", lambda e: errors.append(str(e)))
-        page.goto(Path(report).as_uri())
-        page.wait_for_function("() => { const gd = document.getElementById('posekit-figure');"
-                               " return gd && gd._fullLayout && gd.data && gd.data.length >= 3; }", timeout=60_000)
-        page.wait_for_timeout(500)
-        names = page.evaluate("() => document.getElementById('posekit-figure').data.map(t => t.name)")
-        body_text = page.inner_text("body")
-        images = page.evaluate("() => document.querySelectorAll('img').length")
-        legend = page.evaluate("() => [...document.querySelectorAll('#posekit-figure .legendtext')]"
-                               ".map(e => e.textContent)")
-        page.screenshot(path=str(artifacts / "report.png"), full_page=False)
-        ctx.close()
+    page = lab.context.new_page()
+    page.on("request", lambda r: requests.append(r.url))
+    page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
+    page.on("pageerror", lambda e: errors.append(str(e)))
+    page.goto(Path(report).as_uri())
+    page.wait_for_function("() => { const gd = document.getElementById('posekit-figure');"
+                           " return gd && gd._fullLayout && gd.data && gd.data.length >= 3; }", timeout=60_000)
+    page.wait_for_timeout(500)
+    names = page.evaluate("() => document.getElementById('posekit-figure').data.map(t => t.name)")
+    body_text = page.inner_text("body")
+    images = page.evaluate("() => document.querySelectorAll('img').length")
+    legend = page.evaluate("() => [...document.querySelectorAll('#posekit-figure .legendtext')]"
+                           ".map(e => e.textContent)")
+    page.screenshot(path=str(artifacts / "report.png"), full_page=False)
+    page.close()
     assert [u for u in requests if not u.startswith(("file:", "data:", "blob:"))] == []
     assert dialogs == [] and errors == []
     assert images == 0
