@@ -298,7 +298,8 @@ class Explorer(w.VBox):
         quat = panel_html(f"Quaternion ({conv.algebra.upper() if conv.algebra == 'jpl' else 'Hamilton'}, "
                           f"scalar {conv.scalar})", numbers_html(labels, q, 6) +
                           words_html("−q names the same rotation"))
-        back = write_rotation(rot, "euler", conv, check=False)
+        solutions = euler_solutions(rot, conv)
+        back = solutions.angles  # the readback, exactly as write_rotation writes it
         same = bool(np.allclose(back, self.angles, atol=1e-9))
         note = "read-back equals the entry" if same else "read-back differs from the entry, same orientation"
         letters = conv.axes_letters
@@ -306,7 +307,6 @@ class Explorer(w.VBox):
                            numbers_html([f"{i + 1}: {letters[i]}" for i in range(3)], self.angles, 4)
                            + numbers_html(["read back 1", "2", "3"], back, 4) + words_html(note))
         gauge = lock_gauge(rot, conv)
-        solutions = euler_solutions(rot, conv)
         d = float(solutions.distance)
         if bool(solutions.at_pole):
             lock = "GIMBAL LOCK. " + solutions.words()
