@@ -129,7 +129,7 @@ def test_oversized_file_is_refused_before_parsing(tmp_path):
 
 
 def test_code_cell_rebuilds_identical_state_in_a_fresh_kernel():
-    from posekit.widgets import Explorer, PlanarExplorer
+    from posekit.widgets import Explorer, PlanarExplorer, SingularityView
 
     widgets = [
         Explorer(angles=(31.123456789012345, -89.99999999, 1e-17), translation=(0.1, -0.2, 0.3),
@@ -137,6 +137,8 @@ def test_code_cell_rebuilds_identical_state_in_a_fresh_kernel():
                             "direction=child-from-parent layout=column-major wrap=positive",
                  keep="orientation", show_steps=False, palette="colour-blind"),
         PlanarExplorer(x=0.1 + 0.2, y=-1e-9, heading=-179.99999999999997, direction="child-from-parent"),
+        SingularityView(angles=(30.1, 0.0, -20.000000000000004), swept=2, steps=33, position=7,
+                        convention="sequence=z-x-z unit=degrees scalar=last"),
     ]
     for widget in widgets:
         cells = [nbformat.v4.new_code_cell(widget.code_cell()),

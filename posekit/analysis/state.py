@@ -76,6 +76,14 @@ WIDGET_FIELDS: dict[str, dict[str, tuple]] = {
         "unit": ("choice", ("degrees", "radians")),
         "direction": ("choice", ("parent-from-child", "child-from-parent")),
     },
+    "singularity": {
+        "angles": ("floats", 3),
+        "swept": ("int", 0, 2),
+        "sweep_range": ("floats", 2),
+        "steps": ("int", 2, 2001),
+        "position": ("int", 0, 2000),
+        "convention": ("convention",),
+    },
     "desk": {
         "pasted": ("text",),
         "pairs": ("choice", ("one", "many")),

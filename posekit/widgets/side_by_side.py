@@ -33,7 +33,10 @@ from ..core.reading import as_convention, read_rotation, write_rotation
 from ..view.readouts import gauge_html, matrix_html, numbers_html, panel_html, words_html
 from ..view.sweep import (SWEEP_TRACES, angle_name, apply_patch, family_data, family_figure, step_marks, sweep_figure,
                           sweep_patch)
+from ..analysis.state import NamedPose, State, StateFileError, environment_versions
+from ..core.transforms import make_transform
 from .controls import ConventionBar, KeyboardScope, NumberRow
+from .sharing import SharePanel, python_call
 
 __all__ = ["SingularityView", "StepReadout", "SweepSetupError", "BAR_FIELDS", "MAX_STEPS"]
 
@@ -228,7 +231,7 @@ class SingularityView(w.VBox):
         self.bar.layout.grid_template_columns = "repeat(auto-fill, minmax(520px, 1fr))"  # two columns, no wrapping
         top = w.VBox([w.HTML("<b>Convention</b> (the fields that change what the sweep shows)"), self.bar])
         super().__init__([top, KeyboardScope(scope=".posekit-singularity"), w.HBox([left, self._sweep_box]),
-                          self.readouts, self.summary_words])
+                          self.readouts, self.summary_words, SharePanel(self, "singularity-state")])
         self.add_class("posekit-singularity")
 
         with self.hold_trait_notifications():
@@ -253,6 +256,28 @@ class SingularityView(w.VBox):
         self.observe(self._on_position, ["position"])
         self._sync_controls()
         self._draw_step()
+
+    # --- sharing ----------------------------------------------------------------------------
+    def _settings(self) -> dict:
+        return {"angles": tuple(float(v) for v in self.angles), "swept": int(self.swept),
+                "sweep_range": tuple(float(v) for v in self.sweep_range), "steps": int(self.steps),
+                "position": int(self.position), "convention": self.convention}
+
+    def to_state(self, notes: str = "") -> State:
+        """The sweep set-up and the rotation at the current step, as a posekit State."""
+        pose = NamedPose("rotation at the current step", make_transform(self.current_rotation(), np.zeros(3)),
+                         self.convention_value())
+        return State("singularity", self._settings(), (pose,), (), notes)
+
+    @classmethod
+    def from_state(cls, state: State) -> "SingularityView":
+        if state.widget != "singularity":
+            raise StateFileError(f"state is for widget {state.widget!r}, not 'singularity'")
+        return cls(**dict(state.settings))
+
+    def code_cell(self) -> str:
+        """A notebook cell that rebuilds exactly this view."""
+        return python_call("posekit.widgets", "SingularityView", self._settings(), environment_versions())
 
     # --- building from and exporting to posekit values --------------------------------
     @classmethod
