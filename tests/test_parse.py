@@ -2,7 +2,7 @@
 
 Reference values: the rotations of the readings are checked against
 scipy.spatial.transform.Rotation (named beside each check); the pasted texts are
-written the way numpy, Python, JSON, MATLAB and YAML-style logs print (common practice).
+written the way numpy, Python, JSON, semicolon-row matrix text and YAML-style logs print (common practice).
 """
 
 from __future__ import annotations

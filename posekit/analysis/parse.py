@@ -5,7 +5,7 @@ languages:
 
 * numpy reprs, ``array([[1., 0., 0.], ...], dtype=float32)`` (also ``np.array(...)``);
 * nested lists and JSON arrays, ``[[1, 0, 0], [0, 1, 0], [0, 0, 1]]``, with or
-  without commas (numpy prints ``[[1. 0. 0.]\\n [0. 1. 0.] ...]``), MATLAB-style rows
+  without commas (numpy prints ``[[1. 0. 0.]\\n [0. 1. 0.] ...]``), and rows
   separated by semicolons inside brackets (``[1 2 3; 4 5 6; 7 8 9]``);
 * bare numbers separated by spaces, tabs, commas, semicolons or newlines, and
   multi-line printed matrices with or without brackets around each row;
@@ -242,7 +242,7 @@ class _Reader:
         self.i += 1
         items: list = []
         first_shape = None
-        rows: list[list] = []  # MATLAB style ';' row split inside one bracket
+        rows: list[list] = []  # rows split by ";" inside one bracket
         expect_item = True
         last_sep: _Tok | None = None
         while True:
