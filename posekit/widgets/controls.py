@@ -100,6 +100,14 @@ class NumberRow(w.HBox):
         slider.add_class(f"posekit-slider-{self._css}")
         return slider
 
+    def show(self, value: float) -> None:
+        """Show ``value``: the number box exactly, the slider clamped to its range (no message if unchanged)."""
+        clamped = min(max(value, self.slider.min), self.slider.max)
+        if self.slider.value != clamped:
+            self.slider.value = clamped
+        if self.box.value != value:
+            self.box.value = value
+
     def observe_slider(self, callback) -> None:
         """Call ``callback(change)`` on slider moves; kept across :meth:`set_range`."""
         self._slider_observers.append(callback)

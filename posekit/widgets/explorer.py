@@ -249,18 +249,9 @@ class Explorer(w.VBox):
             for i, row in enumerate(self.angle_rows):
                 row.set_range(lo, hi, step, min(max(self.angles[i], lo), hi))
                 row.label.value = self._angle_label(conv, i)
-                v = self.angles[i]
-                sv = min(max(v, lo), hi)
-                if row.slider.value != sv:
-                    row.slider.value = sv
-                if row.box.value != v:
-                    row.box.value = v
+                row.show(self.angles[i])
             for i, row in enumerate(self.translation_rows):
-                v = self.translation[i]
-                if row.slider.value != min(max(v, row.slider.min), row.slider.max):
-                    row.slider.value = min(max(v, row.slider.min), row.slider.max)
-                if row.box.value != v:
-                    row.box.value = v
+                row.show(self.translation[i])
             self.bar.set_settings({f: getattr(conv, f) for f in conv.__dataclass_fields__})
         finally:
             self._syncing = False

@@ -137,12 +137,7 @@ class PlanarExplorer(w.VBox):
         self._syncing = True
         try:
             for name, row in self.rows.items():
-                v = getattr(self, name)
-                sv = min(max(v, row.slider.min), row.slider.max)
-                if row.slider.value != sv:
-                    row.slider.value = sv
-                if row.box.value != v:
-                    row.box.value = v
+                row.show(getattr(self, name))
         finally:
             self._syncing = False
         m = self.transform()

@@ -515,12 +515,7 @@ class SingularityView(w.VBox):
             for i, row in enumerate(self.angle_rows):
                 row.label.value = self._row_label(conv, i)
                 row.layout.display = "none" if i == self.swept else None
-                v = self.angles[i]
-                sv = min(max(v, lo), hi)
-                if row.slider.value != sv:
-                    row.slider.value = sv
-                if row.box.value != v:
-                    row.box.value = v
+                row.show(self.angles[i])
             if self.range_from.value != self.sweep_range[0]:
                 self.range_from.value = self.sweep_range[0]
             if self.range_to.value != self.sweep_range[1]:
