@@ -129,7 +129,8 @@ def test_oversized_file_is_refused_before_parsing(tmp_path):
 
 
 def test_code_cell_rebuilds_identical_state_in_a_fresh_kernel():
-    from posekit.widgets import Explorer, PlanarExplorer, SingularityView
+    from posekit.analysis import orchard_rover, orchard_rover_planar
+    from posekit.widgets import Explorer, GraphExplorer, PlanarExplorer, SingularityView
 
     widgets = [
         Explorer(angles=(31.123456789012345, -89.99999999, 1e-17), translation=(0.1, -0.2, 0.3),
@@ -139,6 +140,8 @@ def test_code_cell_rebuilds_identical_state_in_a_fresh_kernel():
         PlanarExplorer(x=0.1 + 0.2, y=-1e-9, heading=-179.99999999999997, direction="child-from-parent"),
         SingularityView(angles=(30.1, 0.0, -20.000000000000004), swept=2, steps=33, position=7,
                         convention="sequence=z-x-z unit=degrees scalar=last"),
+        GraphExplorer(orchard_rover(), readout_convention="sequence=x-y-z axes=extrinsic unit=degrees"),
+        GraphExplorer(orchard_rover_planar(), palette="colour-blind"),
     ]
     for widget in widgets:
         cells = [nbformat.v4.new_code_cell(widget.code_cell()),
@@ -165,3 +168,22 @@ def test_report_embeds_a_state_that_loads_back(tmp_path):
     (tmp_path / "not-a-report.html").write_text("<html></html>")
     with pytest.raises(StateFileError, match="expected one embedded"):
         read_report_state(tmp_path / "not-a-report.html")
+
+
+def test_graph_state_keeps_edges_that_read_back_identically():
+    """Nested numbers under a column-major convention are stored flat in the order that reads back the same."""
+    from posekit.analysis import FrameGraph
+    from posekit.widgets import GraphExplorer
+
+    rot = pk.read_rotation([0.3, -0.2, 0.1], "euler")
+    nested = pk.make_transform(rot, [1.0, 2.0, 3.0]).tolist()
+    graph = (FrameGraph().with_edge("world", "base", nested, "matrix", "layout=column-major", "survey")
+             .with_edge("base", "camera", [0.1, 0.0, 0.5, 0.0, 0.0, 0.0, 1.0], "position-quaternion", "scalar=last"))
+    widget = GraphExplorer(graph)
+    back = GraphExplorer.from_state(state_from_json(state_to_json(widget.to_state())))
+    for a, b in zip(graph.edges, back.graph.edges):
+        assert a.transform.tobytes() == b.transform.tobytes() and a.source == b.source
+    bad = json.loads(state_to_json(widget.to_state()))
+    bad["settings"]["sources"] = ["only one"]
+    with pytest.raises(StateFileError, match="sources"):
+        GraphExplorer.from_state(state_from_json(json.dumps(bad)))

@@ -146,3 +146,13 @@ def test_bad_input_is_refused(drive):
         view.chosen_span = 10_000
     with pytest.raises(pk.PoseInputError, match="row"):
         row_rotation(report, report.rows)
+
+
+def test_code_cell_reopens_the_view_on_the_rebuilt_report():
+    from posekit.desk_scenarios import row_drive
+    from posekit.widgets import TrajectoryView
+
+    view = TrajectoryView(row_drive().report(), chosen_span=2)
+    ns = {"report": row_drive().report()}  # rebuilt from the same (invented demo) log
+    exec(view.code_cell(), ns)
+    assert ns["widget"].to_state() == view.to_state()

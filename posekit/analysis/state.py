@@ -84,6 +84,17 @@ WIDGET_FIELDS: dict[str, dict[str, tuple]] = {
         "position": ("int", 0, 2000),
         "convention": ("convention",),
     },
+    "graph": {
+        "planar": ("bool",),
+        "angle_tolerance": ("float",),
+        "distance_tolerance": ("float",),
+        "sources": ("texts",),
+        "from_frame": ("text",),
+        "into_frame": ("text",),
+        "root": ("text",),
+        "readout_convention": ("convention",),
+        "palette": ("choice", ("standard", "colour-blind")),
+    },
     "desk": {
         "pasted": ("text",),
         "pairs": ("choice", ("one", "many")),
@@ -102,6 +113,9 @@ WIDGET_FIELDS: dict[str, dict[str, tuple]] = {
     },
 }
 WIDGET_KINDS = tuple(WIDGET_FIELDS)
+
+#: Kinds of edge numbers: the SE(3) transform kinds and the planar position + heading.
+EDGE_KINDS = tuple(TRANSFORM_KINDS) + ("position-heading",)
 
 _TOP_KEYS = ("schema", "version", "versions", "widget", "settings", "poses", "edges", "notes")
 _VERSION_KEYS = ("posekit", "numpy", "scipy", "python")
@@ -261,6 +275,9 @@ def _check_settings(settings: dict, widget: str, path: str) -> dict:
             out[key] = _convention(v, p).to_text()
         elif tag == "text":
             out[key] = _text(v, p, MAX_TEXT)
+        elif tag == "texts":
+            out[key] = tuple(_text(x, f"{p}[{i}]") for i, x in enumerate(_list(list(v) if isinstance(v, tuple)
+                                                                               else v, p)))
         elif tag == "int":
             if not isinstance(v, int) or isinstance(v, bool) or not kind[1] <= v <= kind[2]:
                 raise _fail(p, f"got {json.dumps(v, default=str)[:60]}; expected a whole number from {kind[1]} "
@@ -370,8 +387,8 @@ def state_from_json(text) -> State:
     for i, e in enumerate(_list(data["edges"], "edges")):
         path = f"edges[{i}]"
         _only_keys(e, ("parent", "child", "kind", "numbers", "convention"), path)
-        if e["kind"] not in TRANSFORM_KINDS:
-            raise _fail(f"{path}.kind", f"got {json.dumps(e['kind'])[:60]}; accepted: {', '.join(TRANSFORM_KINDS)}")
+        if e["kind"] not in EDGE_KINDS:
+            raise _fail(f"{path}.kind", f"got {json.dumps(e['kind'])[:60]}; accepted: {', '.join(EDGE_KINDS)}")
         nums = _list(e["numbers"], f"{path}.numbers")
         if len(nums) > 16:
             raise _fail(f"{path}.numbers", f"{len(nums)} numbers; at most 16 accepted")

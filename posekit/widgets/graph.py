@@ -11,6 +11,7 @@ keyboard (Tab to a control; arrow keys in a list; Space or Enter on a button).
 from __future__ import annotations
 
 import ipywidgets as w
+import numpy as np
 import plotly.graph_objects as go
 import traitlets as t
 
@@ -20,7 +21,10 @@ from ..core.errors import PoseInputError, WrongTypeError
 from ..core.reading import as_convention
 from ..view.graph import graph_figure, graph_traces, loop_check_html, readout_html
 from ..view.readouts import words_html
+from ..analysis.state import Edge as StateEdge
+from ..analysis.state import NamedPose, State, StateFileError, environment_versions, float_literal
 from .controls import ConventionBar, KeyboardScope
+from .sharing import SharePanel, python_call
 
 __all__ = ["GraphExplorer", "EDGE_FIELDS", "KeyboardScope"]
 
@@ -140,7 +144,7 @@ class GraphExplorer(w.VBox):
                         self.readout_bar, self.readouts])
         self.keyboard_scope = KeyboardScope(scope=".posekit-graph-explorer")
         super().__init__([controls, w.Box([self.figure], layout=w.Layout(width="100%")), below,
-                          self.keyboard_scope])
+                          SharePanel(self, "frame-graph-state"), self.keyboard_scope])
         self.add_class("posekit-graph-explorer")
 
         with self.hold_trait_notifications():
@@ -170,6 +174,66 @@ class GraphExplorer(w.VBox):
         self._refresh()
 
     # --- actions (also callable from code) ------------------------------------------------
+    # --- sharing ----------------------------------------------------------------------------
+    @staticmethod
+    def _flat_numbers(edge) -> tuple[float, ...]:
+        """Edge numbers as a flat list that reads back to the same transform under its convention."""
+        arr = np.asarray(edge.numbers, dtype=np.float64)
+        if arr.ndim == 2 and edge.convention.layout == "column-major":
+            return tuple(float(v) for v in arr.ravel(order="F"))  # a flat column-major list of the same matrix
+        return tuple(float(v) for v in arr.ravel())
+
+    def _settings(self) -> dict:
+        g = self.graph
+        return {"planar": bool(g.planar), "angle_tolerance": float(g.angle_tolerance),
+                "distance_tolerance": float(g.distance_tolerance), "sources": tuple(e.source for e in g.edges),
+                "from_frame": self.from_frame, "into_frame": self.into_frame, "root": self.root,
+                "readout_convention": self.readout_convention, "palette": self.palette}
+
+    def to_state(self, notes: str = "") -> State:
+        """The graph's edges as entered (numbers, kind, convention), the chosen lookup and view settings."""
+        edges = tuple(StateEdge(e.parent, e.child, e.kind, self._flat_numbers(e), e.convention)
+                      for e in self.graph.edges)
+        look = self.graph.lookup(self.into_frame, self.from_frame).matrix
+        if look.shape == (3, 3):
+            full = np.eye(4)
+            full[:2, :2], full[:2, 3] = look[:2, :2], look[:2, 2]
+            look = full
+        pose = NamedPose(f"{self.into_frame} from {self.from_frame}", look, as_convention(self.readout_convention))
+        return State("graph", self._settings(), (pose,), edges, notes)
+
+    @classmethod
+    def from_state(cls, state: State) -> "GraphExplorer":
+        """Rebuild the graph edge by edge from a state and open the explorer on it."""
+        if state.widget != "graph":
+            raise StateFileError(f"state is for widget {state.widget!r}, not 'graph'")
+        s = dict(state.settings)
+        if len(s["sources"]) != len(state.edges):
+            raise StateFileError(f"state settings.sources: {len(s['sources'])} names for {len(state.edges)} edges")
+        graph = FrameGraph(planar=s["planar"], angle_tolerance=s["angle_tolerance"],
+                           distance_tolerance=s["distance_tolerance"])
+        for e, source in zip(state.edges, s["sources"]):
+            graph = graph.with_edge(e.parent, e.child, list(e.numbers), e.kind, e.convention, source)
+        return cls(graph, from_frame=s["from_frame"], into_frame=s["into_frame"], root=s["root"],
+                   readout_convention=s["readout_convention"], palette=s["palette"])
+
+    def code_cell(self) -> str:
+        """A notebook cell that rebuilds exactly this graph and explorer."""
+        s = self._settings()
+        lines = [f"# Rebuilds this posekit frame graph exactly as it was shared "
+                 f"(posekit {environment_versions()['posekit']}).",
+                 "from posekit.analysis import FrameGraph", "from posekit.widgets import GraphExplorer", "",
+                 f"graph = FrameGraph(planar={s['planar']!r}, angle_tolerance={float_literal(s['angle_tolerance'])}, "
+                 f"distance_tolerance={float_literal(s['distance_tolerance'])})"]
+        for e in self.graph.edges:
+            nums = ", ".join(float_literal(v) for v in self._flat_numbers(e))
+            lines.append(f"graph = graph.with_edge({e.parent!r}, {e.child!r}, [{nums}], {e.kind!r},\n"
+                         f"                        {e.convention.to_text()!r}, {e.source!r})")
+        rest = {k: s[k] for k in ("from_frame", "into_frame", "root", "readout_convention", "palette")}
+        lines.append("widget = GraphExplorer(graph, " + ", ".join(f"{k}={v!r}" for k, v in rest.items()) + ")")
+        lines.append("widget")
+        return "\n".join(lines) + "\n"
+
     def swap(self) -> None:
         with self.hold_trait_notifications():
             self.from_frame, self.into_frame = self.into_frame, self.from_frame

@@ -17,7 +17,7 @@ import numpy as np
 import plotly.graph_objects as go
 import traitlets as t
 
-from ..analysis.state import NamedPose, State, StateFileError
+from ..analysis.state import NamedPose, State, StateFileError, environment_versions
 from ..analysis.trajectory import TrajectoryReport
 from ..core.errors import PoseInputError
 from ..core.transforms import make_transform
@@ -25,6 +25,7 @@ from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET
 from ..view.trajectory import FLAG_STYLES, flagged_spans, row_rotation, trajectory_figure
 from .controls import KeyboardScope
+from .sharing import SharePanel
 
 __all__ = ["TrajectoryView"]
 
@@ -84,7 +85,7 @@ class TrajectoryView(w.VBox):
         details.set_title(0, "the whole report in words")
         css = w.HTML("<style>.posekit-trajectory-view .widget-html-content { line-height: 1.35; }</style>")
         super().__init__([w.HTML(STYLE_SHEET), KeyboardScope(scope=".posekit-trajectory-view"), css, head,
-                          series_box, w.HBox([side, pose_box]), details])
+                          series_box, w.HBox([side, pose_box]), details, SharePanel(self, "trajectory-state")])
         self.add_class("posekit-trajectory-view")
         self.span_list.observe(lambda ch: setattr(self, "chosen_span", int(ch["new"])), "value")
         self.observe(self._on_chosen, ["chosen_span"])
@@ -168,6 +169,23 @@ class TrajectoryView(w.VBox):
                                            self.report.convention))
         return State("trajectory", {"chosen_span": int(self.chosen_span),
                                     "summary": self.report.summary()[:20_000]}, tuple(poses), (), notes)
+
+    def code_cell(self) -> str:
+        """A cell that reopens this view on the same report.
+
+        The trajectory itself (up to millions of rows) is not written into the cell: the cell
+        expects ``report`` to be rebuilt from the same log first, e.g. with
+        ``posekit.analysis.check_trajectory_csv(path, ...)``, and checks that it matches.
+        """
+        versions = environment_versions()
+        summary = self.report.summary().splitlines()[0] if self.report.summary() else ""
+        return (f"# Reopens this posekit trajectory view (posekit {versions['posekit']}).\n"
+                "# First rebuild `report` from the same log with the same settings, e.g.\n"
+                "#   report = posekit.analysis.check_trajectory_csv(path, ...)\n"
+                "from posekit.widgets import TrajectoryView\n\n"
+                f"expected_summary = {summary!r}\n"
+                "assert report.summary().splitlines()[0] == expected_summary, \"this is not the same trajectory report\"\n"
+                f"widget = TrajectoryView(report, chosen_span={int(self.chosen_span)})\nwidget\n")
 
     @classmethod
     def from_state(cls, state: State, report: TrajectoryReport) -> "TrajectoryView":
