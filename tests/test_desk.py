@@ -11,10 +11,9 @@ from __future__ import annotations
 import html
 import math
 
-import nbformat
 import numpy as np
 import pytest
-from nbclient import NotebookClient
+from fresh_kernel import state_rebuilt_in_fresh_kernel
 
 import posekit as pk
 from posekit.analysis.diagnose import diagnose, diagnose_batch, expected_pose, pose_from_words
@@ -230,13 +229,7 @@ def test_code_cell_rebuilds_the_same_desk_in_a_fresh_kernel():
                      expected="pitched 25 degrees down, 0.3 m forward",
                      convention="sequence=x-y-z axes=extrinsic unit=radians algebra=jpl", chosen=1,
                      palette="colour-blind")
-    cells = [nbformat.v4.new_code_cell(desk.code_cell()),
-             nbformat.v4.new_code_cell("from posekit.analysis.state import state_to_json\n"
-                                       "print(state_to_json(desk.to_state()))")]
-    nb = nbformat.v4.new_notebook(cells=cells)
-    NotebookClient(nb, timeout=120, kernel_name="python3").execute()
-    printed = "".join(o.get("text", "") for o in nb.cells[1].outputs)
-    rebuilt = state_from_json(printed)
+    rebuilt = state_rebuilt_in_fresh_kernel(desk.code_cell(), "desk")
     assert rebuilt == desk.to_state()
     for a, b in zip(rebuilt.poses, desk.to_state().poses):
         assert a.matrix.tobytes() == b.matrix.tobytes()

@@ -4,10 +4,9 @@ from __future__ import annotations
 
 import json
 
-import nbformat
 import numpy as np
 import pytest
-from nbclient import NotebookClient
+from fresh_kernel import state_rebuilt_in_fresh_kernel
 
 import posekit as pk
 from posekit.analysis.state import (MAX_BYTES, MAX_ITEMS, Edge, NamedPose, State, StateFileError, load_state,
@@ -144,13 +143,7 @@ def test_code_cell_rebuilds_identical_state_in_a_fresh_kernel():
         GraphExplorer(orchard_rover_planar(), palette="colour-blind"),
     ]
     for widget in widgets:
-        cells = [nbformat.v4.new_code_cell(widget.code_cell()),
-                 nbformat.v4.new_code_cell("from posekit.analysis.state import state_to_json\n"
-                                           "print(state_to_json(widget.to_state()))")]
-        nb = nbformat.v4.new_notebook(cells=cells)
-        NotebookClient(nb, timeout=120, kernel_name="python3").execute()
-        printed = "".join(o.get("text", "") for o in nb.cells[1].outputs)
-        rebuilt = state_from_json(printed)
+        rebuilt = state_rebuilt_in_fresh_kernel(widget.code_cell(), "widget")
         assert rebuilt == widget.to_state()
         for a, b in zip(rebuilt.poses, widget.to_state().poses):
             assert a.matrix.tobytes() == b.matrix.tobytes()
