@@ -11,7 +11,7 @@ STAMP  := $(VENV)/.posekit-installed
 
 .PHONY: install demo demo-terminal test bench clean
 
-$(STAMP): pyproject.toml
+$(STAMP): pyproject.toml posekit/core/_loops.c
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
 	$(BIN)/python -m pip install --quiet -e '.[notebook,test]'

@@ -23,6 +23,7 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, settings
 
+from posekit.core import compiled
 from posekit.core.convention import CHOICES, Convention
 from posekit.core.rotation import PROPER_EULER, SMALL_BATCH
 
@@ -42,6 +43,12 @@ BATCH_SHAPES = ((), (5,), (2, 3), (SMALL_BATCH + 16,))
 #: Batch lengths on both sides of the core's small-batch threshold, so both kernel routes
 #: (plain whole-array calls, and the blocked tangent-half-angle formulas) meet every law that uses them.
 KERNEL_SIZES = (SMALL_BATCH // 2, SMALL_BATCH + 16)
+
+
+#: The kernel routes of large batches (posekit.core.compiled): the law, reference and bad-input
+#: tests run once per route (fixture ``kernel_route`` in conftest.py), so the compiled loops and
+#: the blocked numpy kernels both meet every law.
+ROUTES = compiled.ROUTES if compiled.available() else ("numpy",)
 
 
 def pair_id(pair) -> str:
@@ -152,6 +159,6 @@ def pole_values(convention: Convention) -> tuple[float, ...]:
 #: The one hypothesis profile of the core tests: no deadline, derandomised, no example
 #: database, so CI runs are stable and repeatable.
 HYPOTHESIS = settings(deadline=None, derandomize=True, database=None, print_blob=True,
-                      suppress_health_check=[HealthCheck.too_slow])
+                      suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])
 #: Rotations drawn per hypothesis example.
 HYPOTHESIS_BATCH = 1000

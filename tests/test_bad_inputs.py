@@ -19,6 +19,9 @@ from posekit.core import errors as E
 from posekit.core.checks import as_numbers
 from posekit.core.rotation import elementary_matrix
 
+#: every test here runs on each kernel route of large batches (compiled loops and numpy)
+pytestmark = pytest.mark.usefixtures("kernel_route")
+
 EYE3, EYE4 = np.eye(3), np.eye(4)
 NAN, INF = float("nan"), float("inf")
 REFLECTION = np.diag([1.0, 1.0, -1.0])

@@ -27,6 +27,9 @@ from posekit.core import rotation as rot
 from posekit.core.reading import KINDS
 from posekit.core.transforms import TRANSFORM_KINDS
 
+#: every test here runs on each kernel route of large batches (compiled loops and numpy)
+pytestmark = pytest.mark.usefixtures("kernel_route")
+
 ORIENTATION_TOL = 1e-12  # radians, the round-trip target of issue 2
 TIGHT = 1e-13  # elementwise tolerance for matrices that should agree to float precision
 PARAMETERISED = tuple(k for k in KINDS if k != "matrix")  # kinds that ``action`` applies to

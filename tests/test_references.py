@@ -21,6 +21,9 @@ import posekit as pk
 from posekit.analysis import scipy_bridge
 from posekit.core import rotation as rot
 
+#: every test here runs on each kernel route of large batches (compiled loops and numpy)
+pytestmark = pytest.mark.usefixtures("kernel_route")
+
 TOL = 1e-12
 
 

@@ -23,6 +23,7 @@ from .errors import (
     ZeroQuaternionError,
     summarise,
 )
+from . import compiled
 from .rotation import SMALL_BATCH, _blocked, _rows
 
 __all__ = [
@@ -158,10 +159,17 @@ def checked_matrix(value, name: str = "rotation matrix", tolerance: float = ORTH
     :class:`ReflectionError` when the matrix is orthonormal but has det -1.
     """
     m = as_numbers(value, name, (size, size))
-    if size == 3:
-        err, det = _gram_and_det(m)
-    else:
-        err, det = orthonormality_error(m), np.linalg.det(m)
+    loops = compiled.loops_for(m.size // 9) if size == 3 else None
+    if loops is not None:
+        flat = np.ascontiguousarray(m).reshape(-1, 9)
+        if sum(compiled.in_parts(len(flat), lambda a, b: loops.check(flat[a:b], tolerance))) == 0:
+            return m
+        # a row failed: the numpy check below finds it and raises with the full message
+    with np.errstate(over="ignore", invalid="ignore"):  # entries so large they overflow fail the check below
+        if size == 3:
+            err, det = _gram_and_det(m)
+        else:
+            err, det = orthonormality_error(m), np.linalg.det(m)
     raise_unless_rotation(m, err, det, name, tolerance)
     return m
 
@@ -170,9 +178,9 @@ def raise_unless_rotation(m, err, det, name: str = "rotation matrix",
                           tolerance: float = ORTHONORMAL_TOLERANCE) -> None:
     """Raise the typed error of :func:`checked_matrix` given precomputed ``err`` and ``det`` ``(...)``."""
     size = m.shape[-1]
-    if (err > tolerance).any():
-        where = _first_bad(err > tolerance)
-        worst = float(np.max(err))
+    if (~(err <= tolerance)).any():  # NaN (from entries so large their products overflow) fails too
+        where = _first_bad(~(err <= tolerance))
+        worst = float(np.max(np.where(np.isnan(err), np.inf, err)))
         d = float(det[where]) if where else float(det)
         scale = ""
         if abs(abs(d) ** (1.0 / size) - 1.0) > 1e-3:

@@ -8,8 +8,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import rotation as rot
-from .checks import _gram_and_det_block, as_numbers, checked_matrix, raise_unless_rotation
+from . import compiled, rotation as rot
+from .checks import (ORTHONORMAL_TOLERANCE, _gram_and_det_block, as_numbers, checked_matrix,
+                     raise_unless_rotation)
 
 __all__ = ["compose", "invert", "turn_vectors", "angle_between", "slerp"]
 
@@ -26,9 +27,20 @@ def compose(*rotations) -> np.ndarray:
     """
     if not rotations:
         raise TypeError("compose() needs at least one rotation")
-    out = checked_matrix(rotations[0])
+    out = checked_matrix(rotations[0]) if len(rotations) == 1 else as_numbers(rotations[0], "rotation matrix", (3, 3))
     for r in rotations[1:]:
-        out = out @ checked_matrix(r)
+        r = as_numbers(r, "rotation matrix", (3, 3))
+        loops = compiled.loops_for(r.size // 9) if r.shape == out.shape else None
+        if loops is None:
+            out = checked_matrix(out) @ checked_matrix(r)
+            continue
+        # one compiled pass checks both factors (as checked_matrix does) and multiplies them
+        a, b = np.ascontiguousarray(out).reshape(-1, 9), np.ascontiguousarray(r).reshape(-1, 9)
+        product = np.empty_like(a)
+        if sum(compiled.in_parts(len(a), lambda i, j: loops.compose(a[i:j], b[i:j], product[i:j],
+                                                                    ORTHONORMAL_TOLERANCE))):
+            checked_matrix(out), checked_matrix(r)  # raises the typed error with its message
+        out = product.reshape(r.shape)
     return out
 
 
@@ -51,6 +63,13 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
     # one pass checks the matrices (as checked_matrix does) and turns the vectors
     flat_r, lead = rot._rows(r, 9)
     flat_v, _ = rot._rows(v, 3)
+    loops = compiled.loops_for(flat_r.shape[0])
+    if loops is not None:
+        out = np.empty_like(flat_v)
+        if sum(compiled.in_parts(len(out), lambda a, b: loops.turn(flat_r[a:b], flat_v[a:b], out[a:b],
+                                                                   ORTHONORMAL_TOLERANCE))):
+            checked_matrix(r)  # raises the typed error with its message
+        return out.reshape(lead + (3,))
     res = rot._blocked(_check_and_turn_block, 5, flat_r, flat_v)
     raise_unless_rotation(r, res[:, 3].reshape(lead), res[:, 4].reshape(lead))
     return np.ascontiguousarray(res[:, :3]).reshape(lead + (3,))

@@ -34,7 +34,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import rotation as rot
+from . import compiled, rotation as rot
 from .checks import ORTHONORMAL_TOLERANCE, UNIT_TOLERANCE, as_numbers, checked_matrix, checked_quaternion
 from .convention import DEFAULT, Convention
 from .errors import NotUnitQuaternionError, PoseInputError, WrongShapeError, ZeroQuaternionError
@@ -140,11 +140,22 @@ def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: 
     if kind == "euler":  # direct, without a batch of intermediate quaternions
         a = as_numbers(numbers, "Euler angles", (3,))
         scale = _angle_scale(conv)
-        m = rot.matrix_of_euler(a * scale if scale != 1.0 else a, conv.axes_letters, conv.intrinsic)
-        if _flip_count(conv, True, kind) % 2:
-            m = np.ascontiguousarray(np.swapaxes(m, -1, -2))
-        return m
+        return rot.matrix_of_euler(a * scale if scale != 1.0 else a, conv.axes_letters, conv.intrinsic,
+                                   transpose=_flip_count(conv, True, kind) % 2 == 1)
     tol = UNIT_TOLERANCE if tolerance is None else tolerance
+    if kind == "quaternion":
+        q = as_numbers(numbers, "quaternion", (4,))
+        loops = compiled.loops_for(q.size // 4)
+        if loops is not None:  # check, reorder, conjugate and convert in one compiled pass
+            flat = np.ascontiguousarray(q).reshape(-1, 4)
+            out = np.empty((flat.shape[0], 9))
+            last, conj = conv.scalar == "last", _flip_count(conv, True, kind) % 2 == 1
+            unit_tol = rot.NO_CHECK if normalise else tol
+            counts = compiled.in_parts(len(flat), lambda a, b: loops.quaternion_matrix(flat[a:b], out[a:b], last,
+                                                                                       conj, unit_tol))
+            if any(off or zero for off, zero in counts):  # raises the typed error with its message
+                checked_quaternion(q, "quaternion", tolerance=tol, normalise=normalise)
+            return out.reshape(q.shape[:-1] + (3, 3))
     q = _canonical_quaternion(numbers, kind, conv, normalise, tol)
     if _flip_count(conv, True, kind) % 2:
         q = rot.conjugate(q)
@@ -174,8 +185,13 @@ def write_rotation(matrix, kind: str = "quaternion", convention=None, *, flat: b
     """
     conv = as_convention(convention)
     _check_kind(kind)
-    m = checked_matrix(matrix) if check else np.asarray(matrix, dtype=np.float64)
     scale = _angle_scale(conv)
+    if kind in ("quaternion", "euler"):
+        m = as_numbers(matrix, "rotation matrix", (3, 3)) if check else np.asarray(matrix, dtype=np.float64)
+        loops = compiled.loops_for(m.size // 9)
+        if loops is not None:
+            return _write_compiled(loops, m, kind, conv, scale, check)
+    m = checked_matrix(matrix) if check else np.asarray(matrix, dtype=np.float64)
     if kind == "matrix":
         if conv.direction == "child-from-parent":
             m = np.swapaxes(m, -1, -2)
@@ -215,6 +231,30 @@ def write_rotation(matrix, kind: str = "quaternion", convention=None, *, flat: b
             a = np.remainder(a, 2.0 * np.pi)
         return a / scale
     raise AssertionError(kind)
+
+
+def _write_compiled(loops, m, kind: str, conv: Convention, scale: float, check: bool):
+    """:func:`write_rotation` of a large batch as quaternions or Euler angles in one compiled
+    pass that also checks the matrices (:mod:`posekit.core.compiled`)."""
+    flat = np.ascontiguousarray(m).reshape(-1, 9)
+    flip = _flip_count(conv, True, kind) % 2 == 1  # the conjugate quaternion is the transposed matrix
+    tol = ORTHONORMAL_TOLERANCE if check else rot.NO_CHECK
+    if kind == "quaternion":
+        out = np.empty((flat.shape[0], 4))
+        last = conv.scalar == "last"
+        bad = sum(compiled.in_parts(len(flat), lambda a, b: loops.matrix_quaternion(flat[a:b], out[a:b], flip,
+                                                                                    last, tol)))
+        shape = m.shape[:-2] + (4,)
+    else:
+        if conv.wrap == "positive":  # wrap in radians, then scale
+            out, _, bad = rot.euler_of_matrix_rows(flat, conv.axes_letters, conv.intrinsic, flip, tol)
+            out = _wrap_out(out, conv, (0, 2)) / scale
+        else:  # the loop scales as it writes
+            out, _, bad = rot.euler_of_matrix_rows(flat, conv.axes_letters, conv.intrinsic, flip, tol, 1.0 / scale)
+        shape = m.shape[:-2] + (3,)
+    if bad and check:
+        checked_matrix(m)  # raises the typed error with its message
+    return out.reshape(shape)
 
 
 def convert(numbers, source_kind: str, target_kind: str, source=None, target=None, **options):

@@ -28,6 +28,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from . import compiled
+
 __all__ = [
     "AXIS_INDEX",
     "SEQUENCES",
@@ -62,8 +64,12 @@ POLE_SNAP = 1e-14
 #: Rows per block in the blocked kernels below: a block's temporaries stay in the CPU
 #: cache, which is several times faster than whole-array numpy passes for 1e6 rows.
 BLOCK = 8192
-#: Up to this many rows, kernels take the plain route with fewer numpy calls (tests cover both).
-SMALL_BATCH = 64
+#: Up to this many rows, kernels take the plain route with fewer numpy calls; longer batches
+#: take the compiled loops when built (:mod:`posekit.core.compiled`), else the blocked numpy
+#: kernels.  Tests cover all three.
+SMALL_BATCH = compiled.MIN_ROWS
+#: Passed as a tolerance to the compiled loops where no input check is wanted.
+NO_CHECK = float("inf")
 
 
 def _rows(a, width: int):
@@ -179,7 +185,13 @@ def matrix_of_quaternion(q):
     [[0.0, -1.0, 0.0], [1.0, 0.0, 0.0], [0.0, 0.0, 1.0]]
     """
     flat, lead = _rows(q, 4)
-    out = _blocked(lambda o, f: _write_matrix_of_parts(o, f[:, 0], f[:, 1], f[:, 2], f[:, 3], True), 9, flat)
+    loops = compiled.loops_for(flat.shape[0])
+    if loops is not None:
+        out = np.empty((flat.shape[0], 9))
+        compiled.in_parts(len(flat), lambda a, b: loops.quaternion_matrix(flat[a:b], out[a:b], False, False,
+                                                                           NO_CHECK))
+    else:
+        out = _blocked(lambda o, f: _write_matrix_of_parts(o, f[:, 0], f[:, 1], f[:, 2], f[:, 3], True), 9, flat)
     return out.reshape(lead + (3, 3))
 
 
@@ -191,6 +203,12 @@ def quaternion_of_matrix(m):
     column of Shepperd's symmetric 4x4 matrix is normalised (Markley, JGCD 31(2), 2008).
     """
     flat, lead = _rows(m, 9)
+    loops = compiled.loops_for(flat.shape[0])
+    if loops is not None:
+        out = np.empty((flat.shape[0], 4))
+        compiled.in_parts(len(flat), lambda a, b: loops.matrix_quaternion(flat[a:b], out[a:b], False, False,
+                                                                           NO_CHECK))
+        return out.reshape(lead + (4,))
     return _blocked(_quaternion_of_matrix_block, 4, flat).reshape(lead + (4,))
 
 
@@ -303,23 +321,42 @@ def quaternion_of_euler(angles, sequence: str, intrinsic: bool):
     return _blocked(block, 4, flat).reshape(lead + (4,))
 
 
-def matrix_of_euler(angles, sequence: str, intrinsic: bool):
+def matrix_of_euler(angles, sequence: str, intrinsic: bool, transpose: bool = False):
     """Active rotation matrix of Euler angles in radians: ``(..., 3) -> (..., 3, 3)``.
 
     The product of the three elementary quaternions, turned into the matrix in the
-    same pass (no intermediate arrays of the whole batch).
+    same pass (no intermediate arrays of the whole batch).  ``transpose=True`` returns
+    the transposed matrices (the passive reading) at no extra cost.
 
     >>> R = matrix_of_euler([np.pi / 2, 0, 0], "zyx", intrinsic=True)
     >>> np.round(R @ [1, 0, 0], 12).tolist()
     [0.0, 1.0, 0.0]
     """
     flat, lead = _rows(angles, 3)
+    loops = compiled.loops_for(flat.shape[0])
+    if loops is not None:
+        out = np.empty((flat.shape[0], 9))
+        axes = _axes(sequence)
+
+        def part(start, stop):
+            # numpy's tan is vectorised; the loop takes the half angles from t = tan(angle / 4),
+            # block by block so the tangents stay in the CPU cache
+            buf = np.empty((min(BLOCK, stop - start), 3))
+            for s in range(start, stop, BLOCK):
+                e = min(s + BLOCK, stop)
+                t = np.multiply(flat[s:e], 0.25, out=buf[: e - s])
+                np.tan(t, out=t)
+                loops.euler_matrix(t, out[s:e], axes, intrinsic, transpose)
+
+        compiled.in_parts(len(flat), part)
+        return out.reshape(lead + (3, 3))
 
     def block(out, a):
         w, x, y, z = (_zero_if_none(part, a.shape[0]) for part in _euler_parts(a, sequence, intrinsic))
         _write_matrix_of_parts(out, w, x, y, z)
 
-    return _blocked(block, 9, flat).reshape(lead + (3, 3))
+    m = _blocked(block, 9, flat).reshape(lead + (3, 3))
+    return np.ascontiguousarray(np.swapaxes(m, -1, -2)) if transpose else m
 
 
 def euler_of_quaternion(q, sequence: str, intrinsic: bool):
@@ -336,12 +373,7 @@ def euler_of_quaternion(q, sequence: str, intrinsic: bool):
     Method: Bernardes & Viollet, PLoS ONE 17(11), 2022.
     """
     flat, lead = _rows(q, 4)
-    seq = sequence if not intrinsic else sequence[::-1]
-    i, j, k = _axes(seq)
-    proper = i == k
-    if proper:
-        k = 3 - i - j
-    eps = (i - j) * (j - k) * (k - i) / 2.0
+    i, j, k, proper, eps = _method_axes(sequence, intrinsic)
 
     def block(out, f):
         w = f[:, 0]
@@ -387,9 +419,54 @@ def euler_of_quaternion(q, sequence: str, intrinsic: bool):
     return np.ascontiguousarray(res[:, :3]).reshape(lead + (3,)), res[:, 3].reshape(lead)
 
 
+def _method_axes(sequence: str, intrinsic: bool):
+    """(i, j, k, proper, eps) of Bernardes & Viollet (2022) for a sequence as the user lists it."""
+    seq = sequence if not intrinsic else sequence[::-1]
+    i, j, k = _axes(seq)
+    proper = i == k
+    if proper:
+        k = 3 - i - j
+    eps = (i - j) * (j - k) * (k - i) / 2.0
+    return i, j, k, proper, eps
+
+
 def euler_of_matrix(m, sequence: str, intrinsic: bool):
     """Euler angles (radians) of rotation matrices: ``(..., 3, 3) -> ((..., 3), (...))``; see :func:`euler_of_quaternion`."""
+    flat, lead = _rows(m, 9)
+    if compiled.loops_for(flat.shape[0]) is not None:
+        angles, dist, _ = euler_of_matrix_rows(flat, sequence, intrinsic)
+        return angles.reshape(lead + (3,)), dist.reshape(lead)
     return euler_of_quaternion(quaternion_of_matrix(m), sequence, intrinsic)
+
+
+def euler_of_matrix_rows(flat, sequence: str, intrinsic: bool, transpose: bool = False,
+                         tolerance: float = NO_CHECK, scale: float = 1.0):
+    """Compiled route of :func:`euler_of_matrix` for ``(n, 9)`` rows (``transpose`` reads each
+    matrix transposed), with the matrix check fused in.
+
+    Returns ``(angles (n, 3) times scale, pole distance (n), rows that failed the check)``.
+    Blocks of :data:`BLOCK` rows keep the intermediate arguments in the CPU cache; numpy's
+    vectorised arctan2 runs between the two compiled loops."""
+    loops = compiled._loops
+    i, j, k, proper, eps = _method_axes(sequence, intrinsic)
+    n = flat.shape[0]
+    angles, dist = np.empty((n, 3)), np.empty(n)
+
+    def part(begin, end):
+        bad = 0
+        args, atans = np.empty(6 * min(end - begin, BLOCK)), np.empty(3 * min(end - begin, BLOCK))
+        for start in range(begin, end, BLOCK):
+            stop = min(start + BLOCK, end)
+            rows = stop - start
+            a, t = args[: 6 * rows].reshape(6, rows), atans[: 3 * rows].reshape(3, rows)
+            bad += loops.euler_arguments(flat[start:stop], a, (i, j, k), proper, eps, transpose, tolerance)
+            np.arctan2(a[1], a[0], out=t[0])  # tp
+            np.arctan2(a[3], a[2], out=t[1])  # tm
+            np.arctan2(a[5], a[4], out=t[2])  # half the middle angle
+            loops.euler_finish(a, t, angles[start:stop], dist[start:stop], intrinsic, proper, eps, scale)
+        return bad
+
+    return angles, dist, sum(compiled.in_parts(n, part))
 
 
 def _wrap_near(a):

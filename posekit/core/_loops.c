@@ -1,0 +1,640 @@
+/*
+ * Compiled loops for large batches of rotations: posekit.core._loops.
+ *
+ * Optional: posekit/core/compiled.py uses these when the module was built and falls back
+ * to the numpy kernels of rotation.py otherwise (same formulas, same results to rounding).
+ * The loops are plain arithmetic on C-contiguous float64 rows; the transcendental
+ * functions stay in numpy (tan, arctan2), which the caller applies between two loops.
+ * Each loop also counts the rows that fail the input check it fuses (orthonormality and
+ * determinant of matrices, length of quaternions), so the caller reads the data once and
+ * raises posekit's typed error, with its full message, only when the count is not zero.
+ *
+ * Formulas and their sources are the ones beside the numpy kernels in rotation.py,
+ * checks.py and ops.py:
+ *   quaternion -> matrix: Shuster, J. Astronautical Sciences 41(4), 1993 (Hamilton, active);
+ *   matrix -> quaternion: Shepperd, J. Guidance and Control 1(3), 1978 (largest diagonal);
+ *   quaternion -> Euler: Bernardes & Viollet, PLoS ONE 17(11), 2022;
+ *   half angles from one tangent: the tangent half-angle substitution (common practice).
+ *
+ * Only the Python C API's buffer protocol is used (no numpy headers), so building needs a
+ * C compiler and Python's headers, nothing else.  The GIL is released inside every loop.
+ */
+#define PY_SSIZE_T_CLEAN
+#include <Python.h>
+#include <math.h>
+#include <string.h>
+
+/* One binary, the widest vector unit the processor has: gcc builds each loop for AVX-512,
+ * AVX2 and the x86-64 baseline and picks one when the module loads. */
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
+#define WIDE __attribute__((target_clones("arch=x86-64-v4", "arch=x86-64-v3", "default")))
+#else
+#define WIDE
+#endif
+
+#define POLE_SNAP 1e-14 /* the same as rotation.POLE_SNAP */
+
+/* Rows are processed in tiles: a tile is copied into entry-major local arrays (one
+ * array per matrix entry), the arithmetic runs over the tile with contiguous operands so
+ * the compiler vectorises it, and the results are copied back into rows.  A short last
+ * tile is padded with the identity (which passes every check) and not written back. */
+#define TILE 64
+#define ALWAYS_INLINE static inline __attribute__((always_inline))
+
+ALWAYS_INLINE void
+load_tile(const double *restrict src, int width, Py_ssize_t nt, double *restrict dst, const double *pad)
+{
+    for (Py_ssize_t t = 0; t < TILE; t++)
+        for (int e = 0; e < width; e++)
+            dst[e * TILE + t] = t < nt ? src[width * t + e] : pad[e];
+}
+
+ALWAYS_INLINE void
+store_tile(double *restrict dst, int width, Py_ssize_t nt, const double *restrict src)
+{
+    for (Py_ssize_t t = 0; t < nt; t++)
+        for (int e = 0; e < width; e++)
+            dst[width * t + e] = src[e * TILE + t];
+}
+
+static const double EYE[9] = {1, 0, 0, 0, 1, 0, 0, 0, 1};
+static const double UNIT_Q[4] = {1, 0, 0, 0};
+static const double ZEROS[4] = {0, 0, 0, 0};
+
+#define TILE_ROWS(n, r0) ((n) - (r0) < TILE ? (n) - (r0) : TILE)
+/* entry e of row t of an entry-major tile */
+#define AT(a, e) (a)[(e) * TILE + t]
+
+/* |M^T M - I|_F squared and det M (cofactor expansion) of tile row t, as checks.py. */
+#define GRAM_DET(a, err, det)                                                                     \
+    do {                                                                                          \
+        double m00 = AT(a, 0), m01 = AT(a, 1), m02 = AT(a, 2), m10 = AT(a, 3), m11 = AT(a, 4);  \
+        double m12 = AT(a, 5), m20 = AT(a, 6), m21 = AT(a, 7), m22 = AT(a, 8);                  \
+        double g00 = m00 * m00 + m10 * m10 + m20 * m20 - 1.0;                                     \
+        double g11 = m01 * m01 + m11 * m11 + m21 * m21 - 1.0;                                     \
+        double g22 = m02 * m02 + m12 * m12 + m22 * m22 - 1.0;                                     \
+        double g01 = m00 * m01 + m10 * m11 + m20 * m21;                                           \
+        double g02 = m00 * m02 + m10 * m12 + m20 * m22;                                           \
+        double g12 = m01 * m02 + m11 * m12 + m21 * m22;                                           \
+        err = g00 * g00 + g11 * g11 + g22 * g22 + 2.0 * (g01 * g01 + g02 * g02 + g12 * g12);     \
+        det = m00 * (m11 * m22 - m12 * m21) - m01 * (m10 * m22 - m12 * m20)                       \
+            + m02 * (m10 * m21 - m11 * m20);                                                      \
+    } while (0)
+
+/* A row fails when the error (squared here) is not within tolerance or the determinant is not >= 0
+ * (NaN fails both, so nothing unreadable passes). */
+#define BAD_MATRIX(err2, det, tol) ((!((err2) <= (tol) * (tol))) | (!((det) >= 0.0)))
+
+/* ---------------------------------------------------------------------------------- */
+/* the loops                                                                           */
+
+WIDE static Py_ssize_t
+check_loop(const double *restrict m, Py_ssize_t n, double tol)
+{
+    Py_ssize_t bad = 0;
+    double a[9 * TILE];
+    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
+        load_tile(m + 9 * r0, 9, TILE_ROWS(n, r0), a, EYE);
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double err, det;
+            GRAM_DET(a, err, det);
+            bad += BAD_MATRIX(err, det, tol);
+        }
+    }
+    return bad;
+}
+
+/* Active matrix of quaternion components into tile row t of `o`: every product scaled by
+ * `s` (2 / |q|^2 divides a length out; 2 for unit quaternions).  `tr` writes the transpose. */
+#define MATRIX_OF_PARTS(o, w, x, y, z, s, tr)                                                      \
+    do {                                                                                          \
+        double x2 = x * s, y2 = y * s, z2 = z * s;                                                \
+        double xx = x * x2, yy = y * y2, zz = z * z2;                                             \
+        double xy = x * y2, xz = x * z2, yz = y * z2;                                             \
+        double wx = w * x2, wy = w * y2, wz = w * z2;                                             \
+        double o01 = xy - wz, o10 = xy + wz, o02 = xz + wy, o20 = xz - wy, o12 = yz - wx, o21 = yz + wx; \
+        AT(o, 0) = 1.0 - (yy + zz);                                                               \
+        AT(o, 1) = tr ? o10 : o01;                                                                \
+        AT(o, 2) = tr ? o20 : o02;                                                                \
+        AT(o, 3) = tr ? o01 : o10;                                                                \
+        AT(o, 4) = 1.0 - (xx + zz);                                                               \
+        AT(o, 5) = tr ? o21 : o12;                                                                \
+        AT(o, 6) = tr ? o02 : o20;                                                                \
+        AT(o, 7) = tr ? o12 : o21;                                                                \
+        AT(o, 8) = 1.0 - (xx + yy);                                                               \
+    } while (0)
+
+/* Unit Hamilton quaternion rows -> active matrix rows, the length divided out in the same
+ * pass.  `last`: scalar in slot 3; `conj`: use the conjugate (the transposed matrix).
+ * Counts rows whose length is off 1 by more than `tol` (`*bad_unit`) and rows shorter
+ * than 1e-12 (`*bad_zero`). */
+WIDE static void
+quaternion_matrix_loop(const double *restrict q, double *restrict out, Py_ssize_t n, int last, int conj,
+                       double tol, Py_ssize_t *bad_unit, Py_ssize_t *bad_zero)
+{
+    const int iw = last ? 3 : 0, ix = last ? 0 : 1;
+    Py_ssize_t bu = 0, bz = 0;
+    double a[4 * TILE], o[9 * TILE];
+    const double pad_last[4] = {0, 0, 0, 1};
+    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
+        Py_ssize_t nt = TILE_ROWS(n, r0);
+        load_tile(q + 4 * r0, 4, nt, a, last ? pad_last : UNIT_Q);
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double w = AT(a, iw), x = AT(a, ix), y = AT(a, ix + 1), z = AT(a, ix + 2);
+            double nn = w * w + x * x + y * y + z * z;
+            double len = sqrt(nn);
+            bu += !(fabs(len - 1.0) <= tol);
+            bz += !(len >= 1e-12);
+            double s = 2.0 / nn;
+            MATRIX_OF_PARTS(o, w, x, y, z, s, conj);
+        }
+        store_tile(out + 9 * r0, 9, nt, o);
+    }
+    *bad_unit = bu;
+    *bad_zero = bz;
+}
+
+/* Shepperd's quaternion (w >= 0) of tile row t; `i01` .. `i21` are the entry indices of
+ * m01 .. m21 (swapped to read the matrix transposed).  Every candidate is computed and
+ * the largest diagonal picks one by selects, with no branch, so the loop vectorises. */
+#define SHEPPERD(a, w, x, y, z)                                                            \
+    do {                                                                                   \
+        double m00 = AT(a, 0), m11 = AT(a, 4), m22 = AT(a, 8);                             \
+        double m01 = AT(a, i01), m10 = AT(a, i10), m02 = AT(a, i02);                       \
+        double m20 = AT(a, i20), m12 = AT(a, i12), m21 = AT(a, i21);                       \
+        double trace = m00 + m11 + m22, lo = 1.0 - trace;                                  \
+        double d0 = 1.0 + trace, d1 = lo + 2.0 * m00, d2 = lo + 2.0 * m11, d3 = lo + 2.0 * m22; \
+        double vx = m21 - m12, vy = m02 - m20, vz = m10 - m01;                             \
+        double sxy = m01 + m10, sxz = m02 + m20, syz = m12 + m21;                          \
+        /* the numpy kernel's order: later columns win only when strictly larger */        \
+        double w1 = d1 > d0 ? vx : d0, x1 = d1 > d0 ? d1 : vx, y1 = d1 > d0 ? sxy : vy;    \
+        double z1 = d1 > d0 ? sxz : vz, top1 = d1 > d0 ? d1 : d0;                          \
+        double w2 = d2 > top1 ? vy : w1, x2 = d2 > top1 ? sxy : x1, y2 = d2 > top1 ? d2 : y1; \
+        double z2 = d2 > top1 ? syz : z1, top2 = d2 > top1 ? d2 : top1;                    \
+        w = d3 > top2 ? vz : w2;                                                           \
+        x = d3 > top2 ? sxz : x2;                                                          \
+        y = d3 > top2 ? syz : y2;                                                          \
+        z = d3 > top2 ? d3 : z2;                                                           \
+        double inv = 1.0 / sqrt(w * w + x * x + y * y + z * z);                            \
+        inv = w < 0.0 ? -inv : inv;                                                        \
+        w *= inv; x *= inv; y *= inv; z *= inv;                                            \
+    } while (0)
+
+/* entry indices of the off-diagonal entries, read as stored or transposed */
+#define OFF_DIAGONAL_INDICES(tr)                                                           \
+    const int i01 = tr ? 3 : 1, i10 = tr ? 1 : 3, i02 = tr ? 6 : 2, i20 = tr ? 2 : 6,      \
+              i12 = tr ? 7 : 5, i21 = tr ? 5 : 7
+
+WIDE static Py_ssize_t
+matrix_quaternion_loop(const double *restrict m, double *restrict out, Py_ssize_t n, int tr, int last,
+                       double tol)
+{
+    const int iw = last ? 3 : 0, ix = last ? 0 : 1;
+    OFF_DIAGONAL_INDICES(tr);
+    Py_ssize_t bad = 0;
+    double a[9 * TILE], o[4 * TILE];
+    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
+        Py_ssize_t nt = TILE_ROWS(n, r0);
+        load_tile(m + 9 * r0, 9, nt, a, EYE);
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double err, det, w, x, y, z;
+            GRAM_DET(a, err, det);
+            bad += BAD_MATRIX(err, det, tol);
+            SHEPPERD(a, w, x, y, z);
+            AT(o, iw) = w;
+            AT(o, ix) = x;
+            AT(o, ix + 1) = y;
+            AT(o, ix + 2) = z;
+        }
+        store_tile(out + 4 * r0, 4, nt, o);
+    }
+    return bad;
+}
+
+/* Euler angles -> matrix rows, given t = tan(angle / 4) for each of the three angles:
+ * cos(angle/2) = (1 - t^2) / (1 + t^2), sin(angle/2) = 2 t / (1 + t^2).  The three
+ * elementary quaternions are multiplied in the sequence's order (intrinsic e1 e2 e3,
+ * extrinsic e3 e2 e1), then turned into the matrix; `tr` writes the transpose. */
+WIDE static void
+euler_matrix_loop(const double *restrict tq, double *restrict out, Py_ssize_t n, int ax0, int ax1, int ax2,
+                  int intrinsic, int tr)
+{
+    /* one-hot masks put the sine on the turn's axis without indexing by a run-time number */
+    const double m0x = ax0 == 0, m0y = ax0 == 1, m0z = ax0 == 2;
+    const double m1x = ax1 == 0, m1y = ax1 == 1, m1z = ax1 == 2;
+    const double m2x = ax2 == 0, m2y = ax2 == 1, m2z = ax2 == 2;
+    double a[3 * TILE], o[9 * TILE];
+    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
+        Py_ssize_t nt = TILE_ROWS(n, r0);
+        load_tile(tq + 3 * r0, 3, nt, a, ZEROS);
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double c[3], s[3];
+            for (int k = 0; k < 3; k++) {
+                double tk = AT(a, k);
+                tk = tk > 1e150 ? 1e150 : (tk < -1e150 ? -1e150 : tk); /* keeps t^2 finite */
+                double t2 = tk * tk, inv = 1.0 / (1.0 + t2);
+                c[k] = (1.0 - t2) * inv;
+                s[k] = (tk + tk) * inv;
+            }
+            double a0w = c[0], a0x = s[0] * m0x, a0y = s[0] * m0y, a0z = s[0] * m0z;
+            double a2w = c[2], a2x = s[2] * m2x, a2y = s[2] * m2y, a2z = s[2] * m2z;
+            double bw = c[1], bx = s[1] * m1x, by = s[1] * m1y, bz = s[1] * m1z;
+            /* first and last factor of the product */
+            double fw = intrinsic ? a0w : a2w, fx = intrinsic ? a0x : a2x;
+            double fy = intrinsic ? a0y : a2y, fz = intrinsic ? a0z : a2z;
+            double lw = intrinsic ? a2w : a0w, lx = intrinsic ? a2x : a0x;
+            double ly = intrinsic ? a2y : a0y, lz = intrinsic ? a2z : a0z;
+            /* p = f (x) b, Hamilton product */
+            double pw = fw * bw - fx * bx - fy * by - fz * bz;
+            double px = fw * bx + fx * bw + fy * bz - fz * by;
+            double py = fw * by - fx * bz + fy * bw + fz * bx;
+            double pz = fw * bz + fx * by - fy * bx + fz * bw;
+            /* q = p (x) l */
+            double w = pw * lw - px * lx - py * ly - pz * lz;
+            double x = pw * lx + px * lw + py * lz - pz * ly;
+            double y = pw * ly - px * lz + py * lw + pz * lx;
+            double z = pw * lz + px * ly - py * lx + pz * lw;
+            MATRIX_OF_PARTS(o, w, x, y, z, 2.0, tr);
+        }
+        store_tile(out + 9 * r0, 9, nt, o);
+    }
+}
+
+/* Matrix rows -> the six arguments of the three arctan2 of Bernardes & Viollet (2022),
+ * written as six contiguous rows of `args` (stride n): a, b, c, d, s_plus, s_minus.
+ * (i, j, k) are the axes of the sequence as the method reads it (reversed for
+ * intrinsic), with k the missing axis for proper Euler sequences; eps the sign of the
+ * permutation.  `tr` reads the matrix transposed (the conjugate quaternion). */
+WIDE static Py_ssize_t
+euler_arguments_loop(const double *restrict m, double *restrict args, Py_ssize_t n, int i, int j, int k,
+                     int proper, double eps, int tr, double tol)
+{
+    const double ix = i == 0, iy = i == 1, iz = i == 2;
+    const double jx = j == 0, jy = j == 1, jz = j == 2;
+    const double kx = k == 0, ky = k == 1, kz = k == 2;
+    OFF_DIAGONAL_INDICES(tr);
+    Py_ssize_t bad = 0;
+    double a[9 * TILE], o[6 * TILE];
+    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
+        Py_ssize_t nt = TILE_ROWS(n, r0);
+        load_tile(m + 9 * r0, 9, nt, a, EYE);
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double err, det, w, x, y, z;
+            GRAM_DET(a, err, det);
+            bad += BAD_MATRIX(err, det, tol);
+            SHEPPERD(a, w, x, y, z);
+            double qi = ix * x + iy * y + iz * z;
+            double qj = jx * x + jy * y + jz * z;
+            double qk = kx * x + ky * y + kz * z;
+            double va = proper ? w : w - qj;
+            double vb = proper ? qi : qi + qk * eps;
+            double vc = proper ? qj : qj + w;
+            double vd = proper ? qk * eps : qk * eps - qi;
+            AT(o, 0) = va;
+            AT(o, 1) = vb;
+            AT(o, 2) = vc;
+            AT(o, 3) = vd;
+            AT(o, 4) = sqrt(va * va + vb * vb); /* |entries| <= 2: no overflow */
+            AT(o, 5) = sqrt(vc * vc + vd * vd);
+        }
+        for (int e = 0; e < 6; e++)
+            memcpy(args + e * n + r0, o + e * TILE, (size_t)nt * sizeof(double));
+    }
+    return bad;
+}
+
+/* The angles from tp = atan2(b, a), tm = atan2(d, c), h = atan2(s_minus, s_plus) (rows of
+ * `atans`, stride n) and the pole tests on s_plus, s_minus (rows 4, 5 of `args`): writes
+ * (n, 3) angles times `scale` in the user's order, and the pole distance (n).  At a pole
+ * the third listed angle is 0, as euler_of_quaternion documents. */
+WIDE static void
+euler_finish_loop(const double *restrict args, const double *restrict atans, double *restrict out,
+                  double *restrict dist, Py_ssize_t n, int intrinsic, int proper, double eps, double scale)
+{
+    const double *sp = args + 4 * n, *sm = args + 5 * n;
+    const double *tp = atans, *tm = atans + n, *h = atans + 2 * n;
+    const int first = intrinsic ? 2 : 0, last = intrinsic ? 0 : 2;
+    double o[3 * TILE];
+    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
+        Py_ssize_t nt = TILE_ROWS(n, r0);
+        for (Py_ssize_t t = 0; t < nt; t++) {
+            Py_ssize_t r = r0 + t;
+            double t2 = 2.0 * h[r];
+            double t1 = tp[r] - tm[r], t3 = tp[r] + tm[r];
+            double z1 = 2.0 * tp[r], mz = -2.0 * tm[r], pz = 2.0 * tm[r];
+            double at_zero = sm[r] <= POLE_SNAP ? 1.0 : 0.0, at_pi = sp[r] <= POLE_SNAP ? 1.0 : 0.0;
+            double pole = at_zero + at_pi > 0.0 ? 1.0 : 0.0;
+            double s1 = at_zero > 0.0 ? z1 : (at_pi > 0.0 ? mz : t1);
+            double s3 = at_zero > 0.0 ? z1 : (at_pi > 0.0 ? pz : t3);
+            t1 = intrinsic ? (1.0 - pole) * t1 : s1;
+            t3 = intrinsic ? s3 : (1.0 - pole) * t3;
+            double tb2 = t2 - 0.5 * M_PI, tpi = M_PI - t2;
+            double d = proper ? (t2 < tpi ? t2 : tpi) : 0.5 * M_PI - fabs(tb2);
+            t3 = proper ? t3 : eps * t3;
+            t2 = proper ? t2 : tb2;
+            double w1 = t1 > M_PI ? t1 - 2.0 * M_PI : t1, w3 = t3 > M_PI ? t3 - 2.0 * M_PI : t3;
+            w1 = w1 <= -M_PI ? w1 + 2.0 * M_PI : w1;
+            w3 = w3 <= -M_PI ? w3 + 2.0 * M_PI : w3;
+            AT(o, first) = w1 * scale;
+            AT(o, 1) = t2 * scale;
+            AT(o, last) = w3 * scale;
+            dist[r] = d > 0.0 ? d : 0.0;
+        }
+        store_tile(out + 3 * r0, 3, nt, o);
+    }
+}
+
+WIDE static Py_ssize_t
+compose_loop(const double *restrict a, const double *restrict b, double *restrict out, Py_ssize_t n, double tol)
+{
+    Py_ssize_t bad = 0;
+    double p[9 * TILE], q[9 * TILE], o[9 * TILE];
+    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
+        Py_ssize_t nt = TILE_ROWS(n, r0);
+        load_tile(a + 9 * r0, 9, nt, p, EYE);
+        load_tile(b + 9 * r0, 9, nt, q, EYE);
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double e1, d1, e2, d2;
+            GRAM_DET(p, e1, d1);
+            GRAM_DET(q, e2, d2);
+            bad += BAD_MATRIX(e1, d1, tol) | BAD_MATRIX(e2, d2, tol);
+            for (int i = 0; i < 3; i++)
+                for (int j = 0; j < 3; j++)
+                    AT(o, 3 * i + j) = AT(p, 3 * i) * AT(q, j) + AT(p, 3 * i + 1) * AT(q, 3 + j)
+                                     + AT(p, 3 * i + 2) * AT(q, 6 + j);
+        }
+        store_tile(out + 9 * r0, 9, nt, o);
+    }
+    return bad;
+}
+
+WIDE static Py_ssize_t
+turn_loop(const double *restrict m, const double *restrict v, double *restrict out, Py_ssize_t n, double tol)
+{
+    Py_ssize_t bad = 0;
+    double a[9 * TILE], u[3 * TILE], o[3 * TILE];
+    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
+        Py_ssize_t nt = TILE_ROWS(n, r0);
+        load_tile(m + 9 * r0, 9, nt, a, EYE);
+        load_tile(v + 3 * r0, 3, nt, u, ZEROS);
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double err, det;
+            GRAM_DET(a, err, det);
+            bad += BAD_MATRIX(err, det, tol);
+            AT(o, 0) = AT(a, 0) * AT(u, 0) + AT(a, 1) * AT(u, 1) + AT(a, 2) * AT(u, 2);
+            AT(o, 1) = AT(a, 3) * AT(u, 0) + AT(a, 4) * AT(u, 1) + AT(a, 5) * AT(u, 2);
+            AT(o, 2) = AT(a, 6) * AT(u, 0) + AT(a, 7) * AT(u, 1) + AT(a, 8) * AT(u, 2);
+        }
+        store_tile(out + 3 * r0, 3, nt, o);
+    }
+    return bad;
+}
+
+/* ---------------------------------------------------------------------------------- */
+/* Python entry points: buffers are C-contiguous float64, sizes checked here.          */
+
+static int
+rows_of(Py_buffer *b, Py_ssize_t width, Py_ssize_t *n, const char *what)
+{
+    if (b->itemsize != 8 || b->len % (8 * width) != 0) {
+        PyErr_Format(PyExc_ValueError, "%s: expected float64 rows of %zd numbers", what, width);
+        return -1;
+    }
+    *n = b->len / (8 * width);
+    return 0;
+}
+
+static int
+same_rows(Py_ssize_t n, Py_ssize_t m, const char *what)
+{
+    if (n != m) {
+        PyErr_Format(PyExc_ValueError, "%s: row counts differ (%zd and %zd)", what, n, m);
+        return -1;
+    }
+    return 0;
+}
+
+static PyObject *
+py_check(PyObject *self, PyObject *args)
+{
+    Py_buffer m;
+    double tol;
+    Py_ssize_t n, bad;
+    if (!PyArg_ParseTuple(args, "y*d", &m, &tol))
+        return NULL;
+    if (rows_of(&m, 9, &n, "matrices") < 0) {
+        PyBuffer_Release(&m);
+        return NULL;
+    }
+    Py_BEGIN_ALLOW_THREADS
+    bad = check_loop(m.buf, n, tol);
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&m);
+    return PyLong_FromSsize_t(bad);
+}
+
+static PyObject *
+py_quaternion_matrix(PyObject *self, PyObject *args)
+{
+    Py_buffer q, out;
+    int last, conj;
+    double tol;
+    Py_ssize_t n, n2, bu = 0, bz = 0;
+    if (!PyArg_ParseTuple(args, "y*w*ppd", &q, &out, &last, &conj, &tol))
+        return NULL;
+    if (rows_of(&q, 4, &n, "quaternions") < 0 || rows_of(&out, 9, &n2, "out") < 0 || same_rows(n, n2, "out") < 0)
+        goto fail;
+    Py_BEGIN_ALLOW_THREADS
+    quaternion_matrix_loop(q.buf, out.buf, n, last, conj, tol, &bu, &bz);
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&q);
+    PyBuffer_Release(&out);
+    return Py_BuildValue("nn", bu, bz);
+fail:
+    PyBuffer_Release(&q);
+    PyBuffer_Release(&out);
+    return NULL;
+}
+
+static PyObject *
+py_matrix_quaternion(PyObject *self, PyObject *args)
+{
+    Py_buffer m, out;
+    int tr, last;
+    double tol;
+    Py_ssize_t n, n2, bad = 0;
+    if (!PyArg_ParseTuple(args, "y*w*ppd", &m, &out, &tr, &last, &tol))
+        return NULL;
+    if (rows_of(&m, 9, &n, "matrices") < 0 || rows_of(&out, 4, &n2, "out") < 0 || same_rows(n, n2, "out") < 0)
+        goto fail;
+    Py_BEGIN_ALLOW_THREADS
+    bad = matrix_quaternion_loop(m.buf, out.buf, n, tr, last, tol);
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&m);
+    PyBuffer_Release(&out);
+    return PyLong_FromSsize_t(bad);
+fail:
+    PyBuffer_Release(&m);
+    PyBuffer_Release(&out);
+    return NULL;
+}
+
+static PyObject *
+py_euler_matrix(PyObject *self, PyObject *args)
+{
+    Py_buffer t, out;
+    int a0, a1, a2, intrinsic, tr;
+    Py_ssize_t n, n2;
+    if (!PyArg_ParseTuple(args, "y*w*(iii)pp", &t, &out, &a0, &a1, &a2, &intrinsic, &tr))
+        return NULL;
+    if (rows_of(&t, 3, &n, "tangents") < 0 || rows_of(&out, 9, &n2, "out") < 0 || same_rows(n, n2, "out") < 0)
+        goto fail;
+    if (a0 < 0 || a0 > 2 || a1 < 0 || a1 > 2 || a2 < 0 || a2 > 2) {
+        PyErr_SetString(PyExc_ValueError, "axes: expected three of 0, 1, 2");
+        goto fail;
+    }
+    Py_BEGIN_ALLOW_THREADS
+    euler_matrix_loop(t.buf, out.buf, n, a0, a1, a2, intrinsic, tr);
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&t);
+    PyBuffer_Release(&out);
+    Py_RETURN_NONE;
+fail:
+    PyBuffer_Release(&t);
+    PyBuffer_Release(&out);
+    return NULL;
+}
+
+static PyObject *
+py_euler_arguments(PyObject *self, PyObject *args)
+{
+    Py_buffer m, out;
+    int i, j, k, proper, tr;
+    double eps, tol;
+    Py_ssize_t n, n2, bad = 0;
+    if (!PyArg_ParseTuple(args, "y*w*(iii)pdpd", &m, &out, &i, &j, &k, &proper, &eps, &tr, &tol))
+        return NULL;
+    if (rows_of(&m, 9, &n, "matrices") < 0 || rows_of(&out, 6, &n2, "out") < 0 || same_rows(n, n2, "out") < 0)
+        goto fail;
+    if (i < 0 || i > 2 || j < 0 || j > 2 || k < 0 || k > 2) {
+        PyErr_SetString(PyExc_ValueError, "axes: expected three of 0, 1, 2");
+        goto fail;
+    }
+    Py_BEGIN_ALLOW_THREADS
+    bad = euler_arguments_loop(m.buf, out.buf, n, i, j, k, proper, eps, tr, tol);
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&m);
+    PyBuffer_Release(&out);
+    return PyLong_FromSsize_t(bad);
+fail:
+    PyBuffer_Release(&m);
+    PyBuffer_Release(&out);
+    return NULL;
+}
+
+static PyObject *
+py_euler_finish(PyObject *self, PyObject *args)
+{
+    Py_buffer a, at, out, dist;
+    int intrinsic, proper;
+    double eps, scale;
+    Py_ssize_t n, n2, n3, n4;
+    if (!PyArg_ParseTuple(args, "y*y*w*w*ppdd", &a, &at, &out, &dist, &intrinsic, &proper, &eps, &scale))
+        return NULL;
+    if (rows_of(&a, 6, &n, "arguments") < 0 || rows_of(&at, 3, &n2, "arctangents") < 0
+        || rows_of(&out, 3, &n3, "out") < 0 || rows_of(&dist, 1, &n4, "distance") < 0
+        || same_rows(n, n2, "arctangents") < 0 || same_rows(n, n3, "out") < 0 || same_rows(n, n4, "distance") < 0)
+        goto fail;
+    Py_BEGIN_ALLOW_THREADS
+    euler_finish_loop(a.buf, at.buf, out.buf, dist.buf, n, intrinsic, proper, eps, scale);
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&a);
+    PyBuffer_Release(&at);
+    PyBuffer_Release(&out);
+    PyBuffer_Release(&dist);
+    Py_RETURN_NONE;
+fail:
+    PyBuffer_Release(&a);
+    PyBuffer_Release(&at);
+    PyBuffer_Release(&out);
+    PyBuffer_Release(&dist);
+    return NULL;
+}
+
+static PyObject *
+py_compose(PyObject *self, PyObject *args)
+{
+    Py_buffer a, b, out;
+    double tol;
+    Py_ssize_t n, n2, n3, bad = 0;
+    if (!PyArg_ParseTuple(args, "y*y*w*d", &a, &b, &out, &tol))
+        return NULL;
+    if (rows_of(&a, 9, &n, "matrices") < 0 || rows_of(&b, 9, &n2, "matrices") < 0
+        || rows_of(&out, 9, &n3, "out") < 0 || same_rows(n, n2, "matrices") < 0 || same_rows(n, n3, "out") < 0)
+        goto fail;
+    Py_BEGIN_ALLOW_THREADS
+    bad = compose_loop(a.buf, b.buf, out.buf, n, tol);
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&a);
+    PyBuffer_Release(&b);
+    PyBuffer_Release(&out);
+    return PyLong_FromSsize_t(bad);
+fail:
+    PyBuffer_Release(&a);
+    PyBuffer_Release(&b);
+    PyBuffer_Release(&out);
+    return NULL;
+}
+
+static PyObject *
+py_turn(PyObject *self, PyObject *args)
+{
+    Py_buffer m, v, out;
+    double tol;
+    Py_ssize_t n, n2, n3, bad = 0;
+    if (!PyArg_ParseTuple(args, "y*y*w*d", &m, &v, &out, &tol))
+        return NULL;
+    if (rows_of(&m, 9, &n, "matrices") < 0 || rows_of(&v, 3, &n2, "vectors") < 0
+        || rows_of(&out, 3, &n3, "out") < 0 || same_rows(n, n2, "vectors") < 0 || same_rows(n, n3, "out") < 0)
+        goto fail;
+    Py_BEGIN_ALLOW_THREADS
+    bad = turn_loop(m.buf, v.buf, out.buf, n, tol);
+    Py_END_ALLOW_THREADS
+    PyBuffer_Release(&m);
+    PyBuffer_Release(&v);
+    PyBuffer_Release(&out);
+    return PyLong_FromSsize_t(bad);
+fail:
+    PyBuffer_Release(&m);
+    PyBuffer_Release(&v);
+    PyBuffer_Release(&out);
+    return NULL;
+}
+
+static PyMethodDef methods[] = {
+    {"check", py_check, METH_VARARGS,
+     "check(m, tol) -> rows of (n, 9) that are not rotations within tol"},
+    {"quaternion_matrix", py_quaternion_matrix, METH_VARARGS,
+     "quaternion_matrix(q, out, scalar_last, conjugate, tol) -> (rows off unit length, rows of zero length)"},
+    {"matrix_quaternion", py_matrix_quaternion, METH_VARARGS,
+     "matrix_quaternion(m, out, transpose, scalar_last, tol) -> rows that are not rotations"},
+    {"euler_matrix", py_euler_matrix, METH_VARARGS,
+     "euler_matrix(tan_quarter_angles, out, (a0, a1, a2), intrinsic, transpose)"},
+    {"euler_arguments", py_euler_arguments, METH_VARARGS,
+     "euler_arguments(m, out6, (i, j, k), proper, eps, transpose, tol) -> rows that are not rotations"},
+    {"euler_finish", py_euler_finish, METH_VARARGS,
+     "euler_finish(args6, atans3, out, distance, intrinsic, proper, eps, scale)"},
+    {"compose", py_compose, METH_VARARGS, "compose(a, b, out, tol) -> rows of a or b that are not rotations"},
+    {"turn", py_turn, METH_VARARGS, "turn(m, v, out, tol) -> rows of m that are not rotations"},
+    {NULL, NULL, 0, NULL},
+};
+
+static struct PyModuleDef module = {
+    PyModuleDef_HEAD_INIT, "_loops", "Compiled loops for large batches of rotations (see compiled.py).", -1, methods,
+};
+
+PyMODINIT_FUNC
+PyInit__loops(void)
+{
+    return PyModule_Create(&module);
+}

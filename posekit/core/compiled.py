@@ -1,0 +1,121 @@
+"""Which kernels serve large batches: the compiled loops, or numpy.
+
+posekit's conversions, checks, products and turns of more than ``SMALL_BATCH`` rows run
+in compiled loops (``posekit/core/_loops.c``) when that module was built at install time,
+and in the blocked numpy kernels of :mod:`posekit.core.rotation` otherwise.  Both give
+the same results to rounding and raise the same typed errors; the tests run every law
+over both routes.  The compiled loops fuse the input check (orthonormality, determinant,
+unit length) into the conversion, so a batch is read once.
+
+Choose the route:
+
+- the environment variable ``POSEKIT_KERNELS=numpy`` (or ``compiled``) before import;
+- :func:`use` as a context manager, e.g. ``with posekit.core.compiled.use("numpy"): ...``;
+- :func:`route` tells which route is in force, :func:`available` whether the loops were built.
+
+The compiled loops release the GIL, so a batch of at least ``PARALLEL_ROWS`` rows is split
+into contiguous parts that run on up to ``POSEKIT_THREADS`` threads (default: the number
+of processors, at most 4; ``POSEKIT_THREADS=1`` keeps everything on the calling thread).
+Every row is computed by the same loop whichever part it falls in, so results do not
+depend on the number of threads.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import threading
+
+from .errors import PoseInputError
+
+try:  # built from _loops.c by the package install; optional
+    from . import _loops
+except ImportError:  # pragma: no cover - depends on the install
+    _loops = None
+
+ROUTES = ("compiled", "numpy")
+#: Batches longer than this use the compiled loops (shorter ones take the plain numpy route).
+MIN_ROWS = 64
+#: Batches of at least this many rows are split across threads.
+PARALLEL_ROWS = 1 << 15
+
+
+def _thread_count() -> int:
+    text = os.environ.get("POSEKIT_THREADS", "").strip()
+    if not text:
+        return max(1, min(os.cpu_count() or 1, 4))
+    if not text.isdigit() or int(text) < 1:
+        raise PoseInputError(f"POSEKIT_THREADS: got {text!r}; accepted: a whole number >= 1 (or unset)")
+    return int(text)
+
+
+_threads = _thread_count()
+_pool = None
+_pool_lock = threading.Lock()
+
+
+def _executor():
+    global _pool
+    with _pool_lock:
+        if _pool is None:
+            from concurrent.futures import ThreadPoolExecutor
+            _pool = ThreadPoolExecutor(max_workers=_threads - 1, thread_name_prefix="posekit-loops")
+        return _pool
+
+
+def in_parts(rows: int, work) -> list:
+    """Run ``work(start, stop)`` over contiguous parts of ``range(rows)``, in parallel for
+    large batches; returns the parts' results in order."""
+    parts = _threads if rows >= PARALLEL_ROWS else 1
+    if parts == 1:
+        return [work(0, rows)]
+    bounds = [rows * k // parts for k in range(parts + 1)]
+    pool = _executor()
+    later = [pool.submit(work, a, b) for a, b in zip(bounds[1:-1], bounds[2:])]
+    first = work(bounds[0], bounds[1])
+    return [first] + [f.result() for f in later]
+
+
+def _initial_route() -> str:
+    wanted = os.environ.get("POSEKIT_KERNELS", "").strip()
+    if wanted and wanted not in ROUTES:
+        raise PoseInputError(f"POSEKIT_KERNELS: got {wanted!r}; accepted: {', '.join(ROUTES)} (or unset)")
+    if wanted == "numpy" or _loops is None:
+        return "numpy"
+    return "compiled"
+
+
+_route = _initial_route()
+
+
+def available() -> bool:
+    """True when the compiled loops were built and import."""
+    return _loops is not None
+
+
+def route() -> str:
+    """The route in force for large batches: ``"compiled"`` or ``"numpy"``."""
+    return _route
+
+
+@contextlib.contextmanager
+def use(name: str):
+    """Run a block with large batches on one route (``"compiled"`` or ``"numpy"``)."""
+    global _route
+    if name not in ROUTES:
+        raise PoseInputError(f"kernel route: got {name!r}; accepted: {', '.join(ROUTES)}")
+    if name == "compiled" and _loops is None:
+        raise PoseInputError("kernel route 'compiled': the compiled loops were not built (no C compiler at "
+                             "install time?); reinstall posekit with a C compiler, or use 'numpy'")
+    before, _route = _route, name
+    try:
+        yield
+    finally:
+        _route = before
+
+
+def loops_for(rows: int):
+    """The compiled loops module when ``rows`` rows should use it, else None."""
+    if _route == "compiled" and rows > MIN_ROWS:
+        return _loops
+    return None
