@@ -414,201 +414,202 @@ same_rows(Py_ssize_t n, Py_ssize_t m, const char *what)
     return 0;
 }
 
+/* Every entry point parses its buffers into b[], checks their row counts, runs its loop
+ * without the GIL and releases every buffer on the way out (result NULL on error). */
+static void
+release(Py_buffer *b, int k)
+{
+    for (int i = 0; i < k; i++)
+        if (b[i].obj != NULL)
+            PyBuffer_Release(&b[i]);
+}
+
+/* rows of b[0] with width w0; each further buffer b[i] must hold the same rows of width w[i] */
+static int
+rows_all(Py_buffer *b, const Py_ssize_t *w, int k, Py_ssize_t *n)
+{
+    if (rows_of(&b[0], w[0], n, "input") < 0)
+        return -1;
+    for (int i = 1; i < k; i++) {
+        Py_ssize_t m;
+        if (rows_of(&b[i], w[i], &m, "output") < 0 || same_rows(*n, m, "buffers") < 0)
+            return -1;
+    }
+    return 0;
+}
+
+static int
+axes_ok(int a, int b, int c)
+{
+    if (a < 0 || a > 2 || b < 0 || b > 2 || c < 0 || c > 2) {
+        PyErr_SetString(PyExc_ValueError, "axes: expected three of 0, 1, 2");
+        return 0;
+    }
+    return 1;
+}
+
 static PyObject *
 py_check(PyObject *self, PyObject *args)
 {
-    Py_buffer m;
+    Py_buffer b[1] = {{0}};
+    const Py_ssize_t w[1] = {9};
     double tol;
     Py_ssize_t n, bad;
-    if (!PyArg_ParseTuple(args, "y*d", &m, &tol))
+    PyObject *res = NULL;
+    if (!PyArg_ParseTuple(args, "y*d", &b[0], &tol))
         return NULL;
-    if (rows_of(&m, 9, &n, "matrices") < 0) {
-        PyBuffer_Release(&m);
-        return NULL;
+    if (rows_all(b, w, 1, &n) == 0) {
+        Py_BEGIN_ALLOW_THREADS
+        bad = check_loop(b[0].buf, n, tol);
+        Py_END_ALLOW_THREADS
+        res = PyLong_FromSsize_t(bad);
     }
-    Py_BEGIN_ALLOW_THREADS
-    bad = check_loop(m.buf, n, tol);
-    Py_END_ALLOW_THREADS
-    PyBuffer_Release(&m);
-    return PyLong_FromSsize_t(bad);
+    release(b, 1);
+    return res;
 }
 
 static PyObject *
 py_quaternion_matrix(PyObject *self, PyObject *args)
 {
-    Py_buffer q, out;
+    Py_buffer b[2] = {{0}};
+    const Py_ssize_t w[2] = {4, 9};
     int last, conj;
     double tol;
-    Py_ssize_t n, n2, bu = 0, bz = 0;
-    if (!PyArg_ParseTuple(args, "y*w*ppd", &q, &out, &last, &conj, &tol))
+    Py_ssize_t n, bu = 0, bz = 0;
+    PyObject *res = NULL;
+    if (!PyArg_ParseTuple(args, "y*w*ppd", &b[0], &b[1], &last, &conj, &tol))
         return NULL;
-    if (rows_of(&q, 4, &n, "quaternions") < 0 || rows_of(&out, 9, &n2, "out") < 0 || same_rows(n, n2, "out") < 0)
-        goto fail;
-    Py_BEGIN_ALLOW_THREADS
-    quaternion_matrix_loop(q.buf, out.buf, n, last, conj, tol, &bu, &bz);
-    Py_END_ALLOW_THREADS
-    PyBuffer_Release(&q);
-    PyBuffer_Release(&out);
-    return Py_BuildValue("nn", bu, bz);
-fail:
-    PyBuffer_Release(&q);
-    PyBuffer_Release(&out);
-    return NULL;
+    if (rows_all(b, w, 2, &n) == 0) {
+        Py_BEGIN_ALLOW_THREADS
+        quaternion_matrix_loop(b[0].buf, b[1].buf, n, last, conj, tol, &bu, &bz);
+        Py_END_ALLOW_THREADS
+        res = Py_BuildValue("nn", bu, bz);
+    }
+    release(b, 2);
+    return res;
 }
 
 static PyObject *
 py_matrix_quaternion(PyObject *self, PyObject *args)
 {
-    Py_buffer m, out;
+    Py_buffer b[2] = {{0}};
+    const Py_ssize_t w[2] = {9, 4};
     int tr, last;
     double tol;
-    Py_ssize_t n, n2, bad = 0;
-    if (!PyArg_ParseTuple(args, "y*w*ppd", &m, &out, &tr, &last, &tol))
+    Py_ssize_t n, bad;
+    PyObject *res = NULL;
+    if (!PyArg_ParseTuple(args, "y*w*ppd", &b[0], &b[1], &tr, &last, &tol))
         return NULL;
-    if (rows_of(&m, 9, &n, "matrices") < 0 || rows_of(&out, 4, &n2, "out") < 0 || same_rows(n, n2, "out") < 0)
-        goto fail;
-    Py_BEGIN_ALLOW_THREADS
-    bad = matrix_quaternion_loop(m.buf, out.buf, n, tr, last, tol);
-    Py_END_ALLOW_THREADS
-    PyBuffer_Release(&m);
-    PyBuffer_Release(&out);
-    return PyLong_FromSsize_t(bad);
-fail:
-    PyBuffer_Release(&m);
-    PyBuffer_Release(&out);
-    return NULL;
+    if (rows_all(b, w, 2, &n) == 0) {
+        Py_BEGIN_ALLOW_THREADS
+        bad = matrix_quaternion_loop(b[0].buf, b[1].buf, n, tr, last, tol);
+        Py_END_ALLOW_THREADS
+        res = PyLong_FromSsize_t(bad);
+    }
+    release(b, 2);
+    return res;
 }
 
 static PyObject *
 py_euler_matrix(PyObject *self, PyObject *args)
 {
-    Py_buffer t, out;
+    Py_buffer b[2] = {{0}};
+    const Py_ssize_t w[2] = {3, 9};
     int a0, a1, a2, intrinsic, tr;
-    Py_ssize_t n, n2;
-    if (!PyArg_ParseTuple(args, "y*w*(iii)pp", &t, &out, &a0, &a1, &a2, &intrinsic, &tr))
+    Py_ssize_t n;
+    PyObject *res = NULL;
+    if (!PyArg_ParseTuple(args, "y*w*(iii)pp", &b[0], &b[1], &a0, &a1, &a2, &intrinsic, &tr))
         return NULL;
-    if (rows_of(&t, 3, &n, "tangents") < 0 || rows_of(&out, 9, &n2, "out") < 0 || same_rows(n, n2, "out") < 0)
-        goto fail;
-    if (a0 < 0 || a0 > 2 || a1 < 0 || a1 > 2 || a2 < 0 || a2 > 2) {
-        PyErr_SetString(PyExc_ValueError, "axes: expected three of 0, 1, 2");
-        goto fail;
+    if (rows_all(b, w, 2, &n) == 0 && axes_ok(a0, a1, a2)) {
+        Py_BEGIN_ALLOW_THREADS
+        euler_matrix_loop(b[0].buf, b[1].buf, n, a0, a1, a2, intrinsic, tr);
+        Py_END_ALLOW_THREADS
+        res = Py_NewRef(Py_None);
     }
-    Py_BEGIN_ALLOW_THREADS
-    euler_matrix_loop(t.buf, out.buf, n, a0, a1, a2, intrinsic, tr);
-    Py_END_ALLOW_THREADS
-    PyBuffer_Release(&t);
-    PyBuffer_Release(&out);
-    Py_RETURN_NONE;
-fail:
-    PyBuffer_Release(&t);
-    PyBuffer_Release(&out);
-    return NULL;
+    release(b, 2);
+    return res;
 }
 
 static PyObject *
 py_euler_arguments(PyObject *self, PyObject *args)
 {
-    Py_buffer m, out;
+    Py_buffer b[2] = {{0}};
+    const Py_ssize_t w[2] = {9, 6};
     int i, j, k, proper, tr;
     double eps, tol;
-    Py_ssize_t n, n2, bad = 0;
-    if (!PyArg_ParseTuple(args, "y*w*(iii)pdpd", &m, &out, &i, &j, &k, &proper, &eps, &tr, &tol))
+    Py_ssize_t n, bad;
+    PyObject *res = NULL;
+    if (!PyArg_ParseTuple(args, "y*w*(iii)pdpd", &b[0], &b[1], &i, &j, &k, &proper, &eps, &tr, &tol))
         return NULL;
-    if (rows_of(&m, 9, &n, "matrices") < 0 || rows_of(&out, 6, &n2, "out") < 0 || same_rows(n, n2, "out") < 0)
-        goto fail;
-    if (i < 0 || i > 2 || j < 0 || j > 2 || k < 0 || k > 2) {
-        PyErr_SetString(PyExc_ValueError, "axes: expected three of 0, 1, 2");
-        goto fail;
+    if (rows_all(b, w, 2, &n) == 0 && axes_ok(i, j, k)) {
+        Py_BEGIN_ALLOW_THREADS
+        bad = euler_arguments_loop(b[0].buf, b[1].buf, n, i, j, k, proper, eps, tr, tol);
+        Py_END_ALLOW_THREADS
+        res = PyLong_FromSsize_t(bad);
     }
-    Py_BEGIN_ALLOW_THREADS
-    bad = euler_arguments_loop(m.buf, out.buf, n, i, j, k, proper, eps, tr, tol);
-    Py_END_ALLOW_THREADS
-    PyBuffer_Release(&m);
-    PyBuffer_Release(&out);
-    return PyLong_FromSsize_t(bad);
-fail:
-    PyBuffer_Release(&m);
-    PyBuffer_Release(&out);
-    return NULL;
+    release(b, 2);
+    return res;
 }
 
 static PyObject *
 py_euler_finish(PyObject *self, PyObject *args)
 {
-    Py_buffer a, at, out, dist;
+    Py_buffer b[4] = {{0}};
+    const Py_ssize_t w[4] = {6, 3, 3, 1};
     int intrinsic, proper;
     double eps, scale;
-    Py_ssize_t n, n2, n3, n4;
-    if (!PyArg_ParseTuple(args, "y*y*w*w*ppdd", &a, &at, &out, &dist, &intrinsic, &proper, &eps, &scale))
+    Py_ssize_t n;
+    PyObject *res = NULL;
+    if (!PyArg_ParseTuple(args, "y*y*w*w*ppdd", &b[0], &b[1], &b[2], &b[3], &intrinsic, &proper, &eps, &scale))
         return NULL;
-    if (rows_of(&a, 6, &n, "arguments") < 0 || rows_of(&at, 3, &n2, "arctangents") < 0
-        || rows_of(&out, 3, &n3, "out") < 0 || rows_of(&dist, 1, &n4, "distance") < 0
-        || same_rows(n, n2, "arctangents") < 0 || same_rows(n, n3, "out") < 0 || same_rows(n, n4, "distance") < 0)
-        goto fail;
-    Py_BEGIN_ALLOW_THREADS
-    euler_finish_loop(a.buf, at.buf, out.buf, dist.buf, n, intrinsic, proper, eps, scale);
-    Py_END_ALLOW_THREADS
-    PyBuffer_Release(&a);
-    PyBuffer_Release(&at);
-    PyBuffer_Release(&out);
-    PyBuffer_Release(&dist);
-    Py_RETURN_NONE;
-fail:
-    PyBuffer_Release(&a);
-    PyBuffer_Release(&at);
-    PyBuffer_Release(&out);
-    PyBuffer_Release(&dist);
-    return NULL;
+    if (rows_all(b, w, 4, &n) == 0) {
+        Py_BEGIN_ALLOW_THREADS
+        euler_finish_loop(b[0].buf, b[1].buf, b[2].buf, b[3].buf, n, intrinsic, proper, eps, scale);
+        Py_END_ALLOW_THREADS
+        res = Py_NewRef(Py_None);
+    }
+    release(b, 4);
+    return res;
 }
 
 static PyObject *
 py_compose(PyObject *self, PyObject *args)
 {
-    Py_buffer a, b, out;
+    Py_buffer b[3] = {{0}};
+    const Py_ssize_t w[3] = {9, 9, 9};
     double tol;
-    Py_ssize_t n, n2, n3, bad = 0;
-    if (!PyArg_ParseTuple(args, "y*y*w*d", &a, &b, &out, &tol))
+    Py_ssize_t n, bad;
+    PyObject *res = NULL;
+    if (!PyArg_ParseTuple(args, "y*y*w*d", &b[0], &b[1], &b[2], &tol))
         return NULL;
-    if (rows_of(&a, 9, &n, "matrices") < 0 || rows_of(&b, 9, &n2, "matrices") < 0
-        || rows_of(&out, 9, &n3, "out") < 0 || same_rows(n, n2, "matrices") < 0 || same_rows(n, n3, "out") < 0)
-        goto fail;
-    Py_BEGIN_ALLOW_THREADS
-    bad = compose_loop(a.buf, b.buf, out.buf, n, tol);
-    Py_END_ALLOW_THREADS
-    PyBuffer_Release(&a);
-    PyBuffer_Release(&b);
-    PyBuffer_Release(&out);
-    return PyLong_FromSsize_t(bad);
-fail:
-    PyBuffer_Release(&a);
-    PyBuffer_Release(&b);
-    PyBuffer_Release(&out);
-    return NULL;
+    if (rows_all(b, w, 3, &n) == 0) {
+        Py_BEGIN_ALLOW_THREADS
+        bad = compose_loop(b[0].buf, b[1].buf, b[2].buf, n, tol);
+        Py_END_ALLOW_THREADS
+        res = PyLong_FromSsize_t(bad);
+    }
+    release(b, 3);
+    return res;
 }
 
 static PyObject *
 py_turn(PyObject *self, PyObject *args)
 {
-    Py_buffer m, v, out;
+    Py_buffer b[3] = {{0}};
+    const Py_ssize_t w[3] = {9, 3, 3};
     double tol;
-    Py_ssize_t n, n2, n3, bad = 0;
-    if (!PyArg_ParseTuple(args, "y*y*w*d", &m, &v, &out, &tol))
+    Py_ssize_t n, bad;
+    PyObject *res = NULL;
+    if (!PyArg_ParseTuple(args, "y*y*w*d", &b[0], &b[1], &b[2], &tol))
         return NULL;
-    if (rows_of(&m, 9, &n, "matrices") < 0 || rows_of(&v, 3, &n2, "vectors") < 0
-        || rows_of(&out, 3, &n3, "out") < 0 || same_rows(n, n2, "vectors") < 0 || same_rows(n, n3, "out") < 0)
-        goto fail;
-    Py_BEGIN_ALLOW_THREADS
-    bad = turn_loop(m.buf, v.buf, out.buf, n, tol);
-    Py_END_ALLOW_THREADS
-    PyBuffer_Release(&m);
-    PyBuffer_Release(&v);
-    PyBuffer_Release(&out);
-    return PyLong_FromSsize_t(bad);
-fail:
-    PyBuffer_Release(&m);
-    PyBuffer_Release(&v);
-    PyBuffer_Release(&out);
-    return NULL;
+    if (rows_all(b, w, 3, &n) == 0) {
+        Py_BEGIN_ALLOW_THREADS
+        bad = turn_loop(b[0].buf, b[1].buf, b[2].buf, n, tol);
+        Py_END_ALLOW_THREADS
+        res = PyLong_FromSsize_t(bad);
+    }
+    release(b, 3);
+    return res;
 }
 
 static PyMethodDef methods[] = {
