@@ -74,7 +74,7 @@ def _numbers_of_anything(value, name: str, trailing):
     return np.asarray(arr, dtype=np.float64)
 
 
-def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.ndarray:
+def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None, *, finite: bool = True) -> np.ndarray:
     """Turn ``value`` into a float64 array, or raise a typed error.
 
     ``trailing`` is the required shape of the last axes, e.g. ``(3, 3)``; leading
@@ -99,13 +99,23 @@ def as_numbers(value, name: str, trailing: tuple[int, ...] | None = None) -> np.
             if arr.size in (9, 16) and trailing in ((3, 3), (4, 4)):
                 hint = " (a flat list of numbers must be reshaped, stating row- or column-major layout)"
             raise WrongShapeError(f"{name}: got shape {arr.shape}; expected shape {want}{hint}")
+    if finite:
+        require_finite(arr, name)
+    return arr
+
+
+def require_finite(arr: np.ndarray, name: str) -> None:
+    """Raise :class:`NotFiniteError` naming the first NaN or infinity of a float64 array.
+
+    Callers that pass ``finite=False`` to :func:`as_numbers` must call this before using the
+    numbers, unless a compiled loop's check already failed every non-finite row (its
+    fallback then calls this)."""
     # a finite sum proves every entry finite (NaN and inf propagate); only a non-finite sum
     # (or an overflowing one) needs the elementwise look
     if not np.isfinite(np.add.reduce(arr, axis=None)) and not np.all(np.isfinite(arr)):
         bad = np.argwhere(~np.isfinite(arr))[0]
         raise NotFiniteError(f"{name}: holds NaN or infinity (first at index {tuple(int(i) for i in bad)}, "
                              f"value {arr[tuple(bad)]}); expected finite numbers")
-    return arr
 
 
 _EYE3 = np.eye(3)
@@ -158,13 +168,14 @@ def checked_matrix(value, name: str = "rotation matrix", tolerance: float = ORTH
     the identity by more than ``tolerance`` in Frobenius norm, and
     :class:`ReflectionError` when the matrix is orthonormal but has det -1.
     """
-    m = as_numbers(value, name, (size, size))
+    m = as_numbers(value, name, (size, size), finite=False)
     loops = compiled.loops_for(m.size // 9) if size == 3 else None
-    if loops is not None:
+    if loops is not None:  # one compiled pass; NaN and infinity fail it too
         flat = np.ascontiguousarray(m).reshape(-1, 9)
         if sum(compiled.in_parts(len(flat), lambda a, b: loops.check(flat[a:b], tolerance))) == 0:
             return m
-        # a row failed: the numpy check below finds it and raises with the full message
+        # a row failed: the numpy checks below find it and raise with the full message
+    require_finite(m, name)
     with np.errstate(over="ignore", invalid="ignore"):  # entries so large they overflow fail the check below
         if size == 3:
             err, det = _gram_and_det(m)

@@ -5,7 +5,11 @@ in compiled loops (``posekit/core/_loops.c``) when that module was built at inst
 and in the blocked numpy kernels of :mod:`posekit.core.rotation` otherwise.  Both give
 the same results to rounding and raise the same typed errors; the tests run every law
 over both routes.  The compiled loops fuse the input check (orthonormality, determinant,
-unit length) into the conversion, so a batch is read once.
+unit length; NaN and infinity fail it too) into the conversion, so a batch is read once.
+When a loop counts failing rows, the caller runs the numpy check, which raises the typed
+error with its message; should the numpy check pass a row the loop failed (a value on
+the tolerance's edge, rounded differently), the numpy check's verdict stands and the
+loop's result is used.
 
 Choose the route:
 

@@ -10,7 +10,7 @@ import numpy as np
 
 from . import compiled, rotation as rot
 from .checks import (ORTHONORMAL_TOLERANCE, _gram_and_det_block, as_numbers, checked_matrix,
-                     raise_unless_rotation)
+                     raise_unless_rotation, require_finite)
 
 __all__ = ["compose", "invert", "turn_vectors", "angle_between", "slerp"]
 
@@ -27,9 +27,11 @@ def compose(*rotations) -> np.ndarray:
     """
     if not rotations:
         raise TypeError("compose() needs at least one rotation")
-    out = checked_matrix(rotations[0]) if len(rotations) == 1 else as_numbers(rotations[0], "rotation matrix", (3, 3))
+    # finiteness is checked by the compiled loop's check, or by checked_matrix below
+    out = checked_matrix(rotations[0]) if len(rotations) == 1 else as_numbers(rotations[0], "rotation matrix", (3, 3),
+                                                                               finite=False)
     for r in rotations[1:]:
-        r = as_numbers(r, "rotation matrix", (3, 3))
+        r = as_numbers(r, "rotation matrix", (3, 3), finite=False)
         loops = compiled.loops_for(r.size // 9) if r.shape == out.shape else None
         if loops is None:
             out = checked_matrix(out) @ checked_matrix(r)
@@ -56,7 +58,7 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
     >>> np.round(turn_vectors(E("z", np.pi / 2), [1, 0, 0]), 12).tolist()
     [0.0, 1.0, 0.0]
     """
-    r = as_numbers(rotation, "rotation matrix", (3, 3))
+    r = as_numbers(rotation, "rotation matrix", (3, 3), finite=False)  # checked below, or by the loop
     v = as_numbers(vectors, "vectors", (3,))
     if r.shape[:-2] != v.shape[:-1]:
         return np.matmul(checked_matrix(r), v[..., None])[..., 0]
@@ -70,6 +72,7 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
                                                                    ORTHONORMAL_TOLERANCE))):
             checked_matrix(r)  # raises the typed error with its message
         return out.reshape(lead + (3,))
+    require_finite(r, "rotation matrix")
     res = rot._blocked(_check_and_turn_block, 5, flat_r, flat_v)
     raise_unless_rotation(r, res[:, 3].reshape(lead), res[:, 4].reshape(lead))
     return np.ascontiguousarray(res[:, :3]).reshape(lead + (3,))

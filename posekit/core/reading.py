@@ -35,7 +35,8 @@ from __future__ import annotations
 import numpy as np
 
 from . import compiled, rotation as rot
-from .checks import ORTHONORMAL_TOLERANCE, UNIT_TOLERANCE, as_numbers, checked_matrix, checked_quaternion
+from .checks import (ORTHONORMAL_TOLERANCE, UNIT_TOLERANCE, as_numbers, checked_matrix, checked_quaternion,
+                     require_finite)
 from .convention import DEFAULT, Convention
 from .errors import NotUnitQuaternionError, PoseInputError, WrongShapeError, ZeroQuaternionError
 
@@ -43,6 +44,9 @@ __all__ = ["KINDS", "read_rotation", "write_rotation", "convert", "as_convention
            "quaternion_product"]
 
 KINDS = ("matrix", "quaternion", "euler", "rotation-vector", "axis-angle", "planar-angle")
+#: Length tolerance given to the compiled loop when quaternions are normalised on purpose:
+#: any finite length passes (zero lengths are counted apart), NaN and infinity still fail.
+ANY_LENGTH = 1e300
 
 
 def as_convention(convention) -> Convention:
@@ -128,7 +132,7 @@ def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: 
     _check_kind(kind)
     if kind == "matrix":
         tol = ORTHONORMAL_TOLERANCE if tolerance is None else tolerance
-        m = as_numbers(numbers, "rotation matrix", None)
+        m = as_numbers(numbers, "rotation matrix", None, finite=False)  # checked_matrix checks finiteness
         if m.shape[-1:] == (9,) and not (m.ndim >= 2 and m.shape[-2:] == (3, 3)):
             m = m.reshape(m.shape[:-1] + (3, 3))
             if conv.layout == "column-major":
@@ -144,13 +148,13 @@ def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: 
                                    transpose=_flip_count(conv, True, kind) % 2 == 1)
     tol = UNIT_TOLERANCE if tolerance is None else tolerance
     if kind == "quaternion":
-        q = as_numbers(numbers, "quaternion", (4,))
+        numbers = q = as_numbers(numbers, "quaternion", (4,), finite=False)  # checked below or by the loop
         loops = compiled.loops_for(q.size // 4)
         if loops is not None:  # check, reorder, conjugate and convert in one compiled pass
             flat = np.ascontiguousarray(q).reshape(-1, 4)
             out = np.empty((flat.shape[0], 9))
             last, conj = conv.scalar == "last", _flip_count(conv, True, kind) % 2 == 1
-            unit_tol = rot.NO_CHECK if normalise else tol
+            unit_tol = ANY_LENGTH if normalise else tol  # finite, so NaN and infinity still fail
             counts = compiled.in_parts(len(flat), lambda a, b: loops.quaternion_matrix(flat[a:b], out[a:b], last,
                                                                                        conj, unit_tol))
             if any(off or zero for off, zero in counts):  # raises the typed error with its message
@@ -187,10 +191,12 @@ def write_rotation(matrix, kind: str = "quaternion", convention=None, *, flat: b
     _check_kind(kind)
     scale = _angle_scale(conv)
     if kind in ("quaternion", "euler"):
-        m = as_numbers(matrix, "rotation matrix", (3, 3)) if check else np.asarray(matrix, dtype=np.float64)
+        m = as_numbers(matrix, "rotation matrix", (3, 3), finite=False) if check else np.asarray(matrix, np.float64)
         loops = compiled.loops_for(m.size // 9)
-        if loops is not None:
+        if loops is not None:  # the loop's check also fails NaN and infinity
             return _write_compiled(loops, m, kind, conv, scale, check)
+        if check:
+            require_finite(m, "rotation matrix")
     m = checked_matrix(matrix) if check else np.asarray(matrix, dtype=np.float64)
     if kind == "matrix":
         if conv.direction == "child-from-parent":
