@@ -186,3 +186,17 @@ def test_numpy_route_from_the_environment():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True,
                          env={**os.environ, "PYTHONPATH": str(ROOT), "POSEKIT_KERNELS": "numpy"})
     assert out.stdout.strip() == "numpy"
+
+
+@needs_loops
+@pytest.mark.skipif(not hasattr(os, "fork"), reason="no fork on this platform")
+def test_forked_child_gets_its_own_threads(monkeypatch):
+    """A process forked after the thread pool started must not wait for the parent's threads."""
+    import multiprocessing
+
+    monkeypatch.setattr(compiled, "_threads", 2)
+    angles = random_euler(np.random.default_rng(5), (compiled.PARALLEL_ROWS + 10,))
+    expected = pk.read_rotation(angles, "euler")  # starts the pool in this process
+    with multiprocessing.get_context("fork").Pool(1) as pool:
+        got = pool.apply_async(pk.read_rotation, (angles, "euler")).get(timeout=60)
+    assert np.array_equal(got, expected)

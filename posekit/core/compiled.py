@@ -67,6 +67,16 @@ def _executor():
         return _pool
 
 
+def _forget_pool_in_child() -> None:
+    """A forked child has none of the parent's threads: start a fresh pool there when needed."""
+    global _pool, _pool_lock
+    _pool, _pool_lock = None, threading.Lock()
+
+
+if hasattr(os, "register_at_fork"):
+    os.register_at_fork(after_in_child=_forget_pool_in_child)
+
+
 def in_parts(rows: int, work) -> list:
     """Run ``work(start, stop)`` over contiguous parts of ``range(rows)``, in parallel for
     large batches; returns the parts' results in order."""
