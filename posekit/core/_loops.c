@@ -26,7 +26,7 @@
 
 /* One binary, the widest vector unit the processor has: gcc builds each loop for AVX-512,
  * AVX2 and the x86-64 baseline and picks one when the module loads. */
-#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
+#if defined(__GNUC__) && __GNUC__ >= 11 && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
 #define WIDE __attribute__((target_clones("arch=x86-64-v4", "arch=x86-64-v3", "default")))
 #else
 #define WIDE
