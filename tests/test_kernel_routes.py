@@ -200,3 +200,20 @@ def test_forked_child_gets_its_own_threads(monkeypatch):
     with multiprocessing.get_context("fork").Pool(1) as pool:
         got = pool.apply_async(pk.read_rotation, (angles, "euler")).get(timeout=60)
     assert np.array_equal(got, expected)
+
+
+def test_without_the_compiled_loops_posekit_runs_on_numpy():
+    """As on a machine where the install found no C compiler: the import of _loops fails."""
+    code = ("import sys, importlib.abc\n"
+            "class NoLoops(importlib.abc.MetaPathFinder):\n"
+            "    def find_spec(self, name, path, target=None):\n"
+            "        if name == 'posekit.core._loops':\n"
+            "            raise ImportError('not built')\n"
+            "sys.meta_path.insert(0, NoLoops())\n"
+            "import numpy as np, posekit as pk\n"
+            "from posekit.core import compiled\n"
+            "m = pk.read_rotation(np.zeros((1000, 3)), 'euler')\n"
+            "print(compiled.available(), compiled.route(), float(abs(m - np.eye(3)).max()))\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True,
+                         env={**os.environ, "PYTHONPATH": str(ROOT)})
+    assert out.stdout.split() == ["False", "numpy", "0.0"]
