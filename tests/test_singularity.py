@@ -14,7 +14,7 @@ from scipy.spatial.transform import Rotation
 
 import posekit as pk
 from posekit.analysis import (EulerSolutions, analyse_pole, euler_rate_jacobian, euler_solutions, lock_gauge,
-                              pole_distance, readback_sensitivity)
+                              pole_distance, pole_readout, readback_sensitivity)
 from posekit.core.convention import CHOICES
 from posekit.core.errors import NotOrthonormalError, PoseInputError
 
@@ -240,3 +240,39 @@ def test_bad_input_raises_typed_errors():
         pole_distance(2 * np.eye(3))
     with pytest.raises(PoseInputError, match="step"):
         readback_sensitivity(np.eye(3), None, step=0.5)
+
+
+# --- pole_readout: the two results of one readback ------------------------------------------------------
+
+def _same(a, b):
+    for name in a.__dataclass_fields__:
+        x, y = getattr(a, name), getattr(b, name)
+        if isinstance(x, np.ndarray) or isinstance(y, np.ndarray):
+            np.testing.assert_array_equal(np.asarray(x), np.asarray(y), err_msg=name)
+        else:
+            assert x == y, name
+
+
+@pytest.mark.parametrize("conv", CONVENTIONS, ids=IDS)
+def test_pole_readout_equals_separate_calls(conv):
+    rng = np.random.default_rng(5)
+    pole = poles(conv)[0]
+    cases = [rotation_of(conv, *rng.uniform(-3, 3, 3)) for _ in range(4)]
+    cases += [rotation_of(conv, 0.4, pole, -0.3), rotation_of(conv, 0.4, pole + 1e-6, -0.3),
+              pk.read_rotation(rng.normal(size=(3, 4)), "quaternion", None, normalise=True)]
+    for R in cases:
+        for frame in (None, "body", "space"):
+            sol, gauge = pole_readout(R, conv, frame)
+            _same(sol, euler_solutions(R, conv))
+            _same(gauge, lock_gauge(R, conv, frame))
+        if R.ndim == 2:  # the text form of the convention gives the same words
+            assert pole_readout(R, conv.to_text())[0].words() == euler_solutions(R, conv).words()
+
+
+def test_pole_readout_bad_input_raises_like_the_separate_calls():
+    with pytest.raises(PoseInputError, match="frame"):
+        pole_readout(np.eye(3), None, "world")
+    with pytest.raises(PoseInputError, match="samples"):
+        pole_readout(np.eye(3), None, samples=1)
+    with pytest.raises(NotOrthonormalError):
+        pole_readout(2 * np.eye(3))

@@ -52,6 +52,7 @@ __all__ = [
     "lock_gauge",
     "readback_sensitivity",
     "euler_solutions",
+    "pole_readout",
     "analyse_pole",
 ]
 
@@ -256,6 +257,10 @@ def lock_gauge(rotation, convention=None, frame: str | None = None) -> LockGauge
     conv = as_convention(convention)
     frame = _check_frame(frame, conv)
     _, angles, _ = _readback(rotation, conv)
+    return _gauge_of_readback(conv, frame, angles)
+
+
+def _gauge_of_readback(conv: Convention, frame: str, angles) -> LockGauge:
     jac = euler_rate_jacobian(angles, conv, frame) / _scale(conv)
     sv = np.linalg.svd(jac, compute_uv=False)
     smallest = sv[..., 2]
@@ -443,6 +448,11 @@ def euler_solutions(rotation, convention=None, tolerance: float | None = None, s
     if not (isinstance(samples, (int, np.integer)) and samples >= 2):
         raise PoseInputError(f"samples: got {samples!r}; expected an integer >= 2")
     _, angles, rad = _readback(rotation, conv)
+    return _solutions_of_readback(conv, angles, rad, tolerance, samples)
+
+
+def _solutions_of_readback(conv: Convention, angles, rad, tolerance: float, samples: int) -> EulerSolutions:
+    scale = _scale(conv)
     a, b, c = rad[..., 0], rad[..., 1], rad[..., 2]
     dist = _distance_of_middle(b, conv)
     b0 = _pole_middle(b, conv)
@@ -460,6 +470,26 @@ def euler_solutions(rotation, convention=None, tolerance: float | None = None, s
     fam = np.where(at[..., None, None], fam, np.nan)
     return EulerSolutions(conv, angles, dist / scale, b0 / scale, float(tolerance), at, regular / scale, s,
                           np.where(at, k / scale, np.nan), free / scale, fam / scale)
+
+
+def pole_readout(rotation, convention=None, frame: str | None = None, samples: int = 73):
+    """``(euler_solutions(R, c), lock_gauge(R, c, frame))`` of rotations ``(..., 3, 3)`` from one readback.
+
+    The same two results as the separate calls (same defaults), for callers that show
+    both on every update (the explorer's readouts): the rotation is checked and the
+    Euler readback written once instead of twice.
+
+    >>> sol, gauge = pole_readout(read_rotation([0, 90, 0], "euler", "unit=degrees"), "unit=degrees")
+    >>> bool(sol.at_pole), bool(gauge.gauge < 1e-12)
+    (True, True)
+    """
+    conv = as_convention(convention)
+    frame = _check_frame(frame, conv)
+    if not (isinstance(samples, (int, np.integer)) and samples >= 2):
+        raise PoseInputError(f"samples: got {samples!r}; expected an integer >= 2")
+    _, angles, rad = _readback(rotation, conv)
+    return (_solutions_of_readback(conv, angles, rad, DEFAULT_POLE_TOLERANCE / _scale(conv), samples),
+            _gauge_of_readback(conv, frame, angles))
 
 
 @dataclass(frozen=True)
