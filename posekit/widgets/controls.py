@@ -7,11 +7,12 @@ from __future__ import annotations
 
 import anywidget
 import ipywidgets as w
+import plotly.graph_objects as go
 import traitlets as t
 
 from ..core.convention import CHOICES
 
-__all__ = ["ConventionBar", "NumberRow", "KeyboardScope"]
+__all__ = ["ConventionBar", "NumberRow", "KeyboardScope", "OneMessageFigure"]
 
 _LABELS = {
     "sequence": "Euler sequence",
@@ -165,3 +166,34 @@ class KeyboardScope(anywidget.AnyWidget):
     };
     """
     scope = t.Unicode(".posekit-graph-explorer").tag(sync=True)
+
+
+class OneMessageFigure(go.FigureWidget):
+    """A plotly ``FigureWidget`` whose ``plotly_restyle`` reaches the page as one comm message.
+
+    plotly sends every restyle as four messages: each of the two edit counters, the
+    restyle itself, then a reset of the restyle trait to None (which the page ignores).
+    Here the counters travel in the same update message as the restyle, and the reset
+    stays in the kernel (a view built later reads the trait's None from the kernel, as
+    before).  The Python-side figure data is updated by plotly exactly as before.
+    Inside an enclosing ``hold_sync`` plotly's own route is kept.
+    """
+
+    def _send_restyle_msg(self, restyle_data, trace_indexes=None, source_view_id=None):
+        if self._holding_sync:
+            return super()._send_restyle_msg(restyle_data, trace_indexes, source_view_id)
+        trace_indexes = self._normalize_trace_indexes(trace_indexes)
+        self._layout_edit_in_process = True
+        self._trace_edit_in_process = True
+        with self.hold_sync():  # one 'update' message: both counters and the restyle
+            self._last_layout_edit_id += 1
+            self._last_trace_edit_id += 1
+            self._py2js_restyle = {"restyle_data": restyle_data, "restyle_traces": trace_indexes,
+                                   "trace_edit_id": self._last_trace_edit_id,
+                                   "layout_edit_id": self._last_layout_edit_id, "source_view_id": source_view_id}
+        locked = self._property_lock
+        self._property_lock = {**locked, "_py2js_restyle": None}  # the page already holds the message
+        try:
+            self._py2js_restyle = None
+        finally:
+            self._property_lock = locked
