@@ -458,9 +458,8 @@ def _solutions_of_readback(conv: Convention, angles, rad, tolerance: float, samp
     b0 = _pole_middle(b, conv)
     at = dist <= tolerance * scale
     second_middle = _wrap_signed(np.pi - b) if conv.is_tait_bryan else -b
-    second = np.stack([_wrap_outer(a + np.pi, conv), second_middle, _wrap_outer(c + np.pi, conv)], axis=-1)
-    first_reg = np.stack([_wrap_outer(a, conv), b, _wrap_outer(c, conv)], axis=-1)
-    regular = np.stack([first_reg, second], axis=-2)
+    wa, wc, wa2, wc2 = _wrap_outer(np.stack([a, c, a + np.pi, c + np.pi]), conv)  # one pass, same numbers
+    regular = np.stack([wa, b, wc, wa2, second_middle, wc2], axis=-1).reshape(b.shape + (2, 3))
     s = _fixed_sign(conv, b0)
     k = _wrap_outer(a + s * c, conv)
     start = 0.0 if conv.wrap == "positive" else -np.pi
