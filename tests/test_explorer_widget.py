@@ -56,6 +56,34 @@ def test_restyle_goes_out_as_one_update_message():
         assert fig._property_lock == {}
 
 
+def _traces(fig):
+    return [{k: v for k, v in t.items() if k != "uid"} for t in fig.to_dict()["data"]]  # uid: random per trace
+
+
+def test_restyle_changes_the_kernel_side_figure_exactly_as_plotly_does():
+    import plotly.graph_objects as go
+
+    def build(cls):
+        return cls(go.Figure([go.Scatter3d(x=[0, 1], y=[0, 0], z=[0, 0], name="a"), go.Mesh3d(x=[0], y=[0], z=[0]),
+                              go.Scatter3d(x=[1], y=[1], z=[1], visible=False)]))
+
+    mine, plain = build(OneMessageFigure), build(go.FigureWidget)
+    steps = [({"x": [[0, 2], [5]], "visible": [True, False]}, [0, 1]),
+             ({"x": [[0, 2]], "y": [[3, 4]]}, [0]),  # x unchanged: only y is a change
+             ({"visible": True}, [0, 1, 2]),  # a scalar applies to every trace
+             ({"line.width": 3, "name": "b"}, [0]),  # a nested path takes plotly's route
+             ({"x": [[7, 8], [9]]}, [2, 1])]
+    for data, traces in steps:
+        assert (mine._perform_plotly_restyle(dict(data), traces) ==
+                plain._perform_plotly_restyle(dict(data), traces))
+        assert _traces(mine) == _traces(plain)
+    for fig in (mine, plain):  # bad keys and trace numbers fail as in plotly
+        with pytest.raises(ValueError, match="Invalid property path"):
+            fig.plotly_restyle({"colour": [1]}, trace_indexes=[0])
+        with pytest.raises(ValueError, match="out of range"):
+            fig._perform_plotly_restyle({"x": [[1]]}, [7])
+
+
 def test_restyle_inside_a_hold_keeps_plotlys_route():
     import plotly.graph_objects as go
 
