@@ -132,3 +132,25 @@ def test_convention_change_updates_words_labels_and_readouts(text):
                                          q, 6) in ex.readouts.value
     back = pk.write_rotation(R, "euler", new)
     assert pk.view.readouts.numbers_html(["read back 1", "2", "3"], back, 4) in ex.readouts.value
+
+
+def test_unchecked_drawing_and_pole_readout_give_the_checked_results():
+    from posekit.analysis import pole_readout
+    from posekit.core.errors import NotOrthonormalError
+    from posekit.view.frames import body_points
+
+    rng = np.random.default_rng(3)
+    for conv in ("sequence=z-y-x unit=degrees", "sequence=x-z-x axes=extrinsic action=passive wrap=positive"):
+        for angles in (rng.uniform(-3, 3, 3), (0.2, np.pi / 2 if "z-y-x" not in conv else 90.0, 0.1)):
+            R = pk.read_rotation(angles, "euler", conv)
+            origin = rng.normal(size=3)
+            assert frame_points(R, origin, 0.8, check=False) == frame_points(R, origin, 0.8)
+            np.testing.assert_array_equal(body_points(R, origin, check=False), body_points(R, origin))
+            fast, slow = pole_readout(R, conv, check=False), pole_readout(R, conv)
+            np.testing.assert_array_equal(fast[0].regular, slow[0].regular)
+            assert fast[0].words() == slow[0].words() and float(fast[1].gauge) == float(slow[1].gauge)
+    # checking stays the default: a bad matrix still raises the typed error
+    for call in (lambda: frame_points(2 * np.eye(3)), lambda: body_points(2 * np.eye(3)),
+                 lambda: pole_readout(2 * np.eye(3))):
+        with pytest.raises(NotOrthonormalError):
+            call()

@@ -102,9 +102,9 @@ def _check_frame(frame, conv: Convention) -> str:
     return frame
 
 
-def _readback(rotation, conv: Convention):
+def _readback(rotation, conv: Convention, check: bool = True):
     """Canonical ``(..., 3, 3)`` -> (readback in the convention's unit (..., 3), radians (..., 3))."""
-    m = checked_matrix(rotation)
+    m = checked_matrix(rotation) if check else np.asarray(rotation, dtype=np.float64)
     angles = write_rotation(m, "euler", conv, check=False)
     return m, angles, angles * _scale(conv)
 
@@ -471,12 +471,13 @@ def _solutions_of_readback(conv: Convention, angles, rad, tolerance: float, samp
                           np.where(at, k / scale, np.nan), free / scale, fam / scale)
 
 
-def pole_readout(rotation, convention=None, frame: str | None = None, samples: int = 73):
+def pole_readout(rotation, convention=None, frame: str | None = None, samples: int = 73, *, check: bool = True):
     """``(euler_solutions(R, c), lock_gauge(R, c, frame))`` of rotations ``(..., 3, 3)`` from one readback.
 
     The same two results as the separate calls (same defaults), for callers that show
     both on every update (the explorer's readouts): the rotation is checked and the
-    Euler readback written once instead of twice.
+    Euler readback written once instead of twice.  ``check=False`` skips checking a
+    rotation that posekit's core has just computed (as in ``write_rotation``).
 
     >>> sol, gauge = pole_readout(read_rotation([0, 90, 0], "euler", "unit=degrees"), "unit=degrees")
     >>> bool(sol.at_pole), bool(gauge.gauge < 1e-12)
@@ -486,7 +487,7 @@ def pole_readout(rotation, convention=None, frame: str | None = None, samples: i
     frame = _check_frame(frame, conv)
     if not (isinstance(samples, (int, np.integer)) and samples >= 2):
         raise PoseInputError(f"samples: got {samples!r}; expected an integer >= 2")
-    _, angles, rad = _readback(rotation, conv)
+    _, angles, rad = _readback(rotation, conv, check)
     return (_solutions_of_readback(conv, angles, rad, DEFAULT_POLE_TOLERANCE / _scale(conv), samples),
             _gauge_of_readback(conv, frame, angles))
 

@@ -267,11 +267,12 @@ class Explorer(w.VBox):
         rot = read_rotation(self.angles, "euler", conv)
         origin = np.asarray(self.translation, dtype=float)
         steps = euler_steps(self.angles, conv)
-        fx, fy, fz = frame_points(rot, origin)
-        body = body_points(rot, origin)
+        # rot and the steps come straight from the core: no second check of the rotations
+        fx, fy, fz = frame_points(rot, origin, check=False)
+        body = body_points(rot, origin, check=False)
         xs, ys, zs = [fx, body[:, 0].tolist()], [fy, body[:, 1].tolist()], [fz, body[:, 2].tolist()]
         for k in (1, 2):
-            sx, sy, sz = frame_points(steps.frames[k], origin, 0.8)
+            sx, sy, sz = frame_points(steps.frames[k], origin, 0.8, check=False)
             xs.append(sx), ys.append(sy), zs.append(sz)
         # one restyle message with only the changed trace data (no figure rebuild)
         self.figure.plotly_restyle({"x": xs, "y": ys, "z": zs,
@@ -295,7 +296,7 @@ class Explorer(w.VBox):
         quat = panel_html(f"Quaternion ({conv.algebra.upper() if conv.algebra == 'jpl' else 'Hamilton'}, "
                           f"scalar {conv.scalar})", numbers_html(labels, q, 6) +
                           words_html("−q names the same rotation"))
-        solutions, gauge = pole_readout(rot, conv)  # one readback serves both
+        solutions, gauge = pole_readout(rot, conv, check=False)  # one readback serves both
         back = solutions.angles  # the readback, exactly as write_rotation writes it
         same = max(abs(b - a) for b, a in zip(back.tolist(), self.angles)) <= 1e-9
         note = "read-back equals the entry" if same else "read-back differs from the entry, same orientation"
