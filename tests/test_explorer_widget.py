@@ -84,6 +84,21 @@ def test_restyle_changes_the_kernel_side_figure_exactly_as_plotly_does():
             fig._perform_plotly_restyle({"x": [[1]]}, [7])
 
 
+def test_batch_update_goes_out_as_one_update_message():
+    import plotly.graph_objects as go
+
+    fig = OneMessageFigure(go.Figure([go.Scatter(x=[0, 1], y=[0, 0])]))
+    comm = _listen(fig)
+    with fig.batch_update():
+        fig.data[0].y = [2, 3]
+        fig.layout.title = "moved"
+    assert len(comm.sent) == 1
+    update = comm.sent[0]["state"]["_py2js_update"]
+    assert update["style_data"] == {"y": [[2, 3]]} and update["layout_data"] == {"title": {"text": "moved"}}
+    assert comm.sent[0]["state"]["_last_trace_edit_id"] == update["trace_edit_id"] == fig._last_trace_edit_id
+    assert list(fig.data[0].y) == [2, 3] and fig._py2js_update is None and fig._property_lock == {}
+
+
 def test_restyle_inside_a_hold_keeps_plotlys_route():
     import plotly.graph_objects as go
 

@@ -170,10 +170,11 @@ class KeyboardScope(anywidget.AnyWidget):
 
 
 class OneMessageFigure(go.FigureWidget):
-    """A plotly ``FigureWidget`` whose ``plotly_restyle`` reaches the page as one comm message.
+    """A plotly ``FigureWidget`` whose restyles and batch updates reach the page as one comm message each.
 
-    plotly sends every restyle as four messages: each of the two edit counters, the
-    restyle itself, then a reset of the restyle trait to None (which the page ignores).
+    plotly sends every restyle (and every ``batch_update``) as four messages: each of
+    the two edit counters, the restyle itself, then a reset of its trait to None (which
+    the page ignores).
     Here the counters travel in the same update message as the restyle, and the reset
     stays in the kernel (a view built later reads the trait's None from the kernel, as
     before).  The Python-side figure data is updated by plotly exactly as before.
@@ -207,18 +208,30 @@ class OneMessageFigure(go.FigureWidget):
     def _send_restyle_msg(self, restyle_data, trace_indexes=None, source_view_id=None):
         if self._holding_sync:
             return super()._send_restyle_msg(restyle_data, trace_indexes, source_view_id)
-        trace_indexes = self._normalize_trace_indexes(trace_indexes)
+        self._send_one("_py2js_restyle", lambda layout_id, trace_id: {
+            "restyle_data": restyle_data, "restyle_traces": self._normalize_trace_indexes(trace_indexes),
+            "trace_edit_id": trace_id, "layout_edit_id": layout_id, "source_view_id": source_view_id})
+
+    def _send_update_msg(self, restyle_data, relayout_data, trace_indexes=None, source_view_id=None):
+        """What ``batch_update`` sends: as one message, like the restyle above."""
+        if self._holding_sync:
+            return super()._send_update_msg(restyle_data, relayout_data, trace_indexes, source_view_id)
+        self._send_one("_py2js_update", lambda layout_id, trace_id: {
+            "style_data": restyle_data, "layout_data": relayout_data,
+            "style_traces": self._normalize_trace_indexes(trace_indexes), "trace_edit_id": trace_id,
+            "layout_edit_id": layout_id, "source_view_id": source_view_id})
+
+    def _send_one(self, name: str, build) -> None:
+        """Send plotly's message ``build(layout_edit_id, trace_edit_id)`` in trait ``name`` with both counters."""
         self._layout_edit_in_process = True
         self._trace_edit_in_process = True
-        with self.hold_sync():  # one 'update' message: both counters and the restyle
+        with self.hold_sync():  # one 'update' message: both counters and plotly's message
             self._last_layout_edit_id += 1
             self._last_trace_edit_id += 1
-            self._py2js_restyle = {"restyle_data": restyle_data, "restyle_traces": trace_indexes,
-                                   "trace_edit_id": self._last_trace_edit_id,
-                                   "layout_edit_id": self._last_layout_edit_id, "source_view_id": source_view_id}
+            setattr(self, name, build(self._last_layout_edit_id, self._last_trace_edit_id))
         locked = self._property_lock
-        self._property_lock = {**locked, "_py2js_restyle": None}  # the page already holds the message
+        self._property_lock = {**locked, name: None}  # the page already holds the message
         try:
-            self._py2js_restyle = None
+            setattr(self, name, None)
         finally:
             self._property_lock = locked
