@@ -451,7 +451,56 @@ def euler_solutions(rotation, convention=None, tolerance: float | None = None, s
     return _solutions_of_readback(conv, angles, rad, tolerance, samples)
 
 
+def _wrap_outer_one(x: float, conv: Convention) -> float:
+    """:func:`_wrap_outer` of one float, with the same operations (Python's % is numpy's remainder)."""
+    out = (x + np.pi) % (2 * np.pi) - np.pi
+    if out <= -np.pi:
+        out += 2 * np.pi
+    if conv.wrap == "positive":
+        out = out % (2 * np.pi)
+        if out >= 2 * np.pi:
+            out = 0.0
+    return out
+
+
+def _solutions_of_one(conv: Convention, angles, rad, tolerance: float, samples: int) -> EulerSolutions:
+    """:func:`_solutions_of_readback` for a single rotation, on floats: the same numbers, fewer numpy calls."""
+    scale = _scale(conv)
+    a, b, c = (float(v) for v in rad)
+    if conv.is_tait_bryan:
+        dist = max(0.5 * np.pi - abs(b), 0.0)
+        b0 = 0.5 * np.pi if b >= 0 else -0.5 * np.pi
+        second_middle = (np.pi - b + np.pi) % (2 * np.pi) - np.pi
+        if second_middle <= -np.pi:
+            second_middle += 2 * np.pi
+    else:
+        dist = max(min(b, np.pi - b), 0.0)
+        b0 = 0.0 if b <= 0.5 * np.pi else np.pi
+        second_middle = -b
+    at = dist <= tolerance * scale
+    regular = np.array([[_wrap_outer_one(a, conv), b, _wrap_outer_one(c, conv)],
+                        [_wrap_outer_one(a + np.pi, conv), second_middle, _wrap_outer_one(c + np.pi, conv)]])
+    s = _fixed_sign(conv, np.float64(b0))
+    k = _wrap_outer_one(a + int(s) * c, conv)
+    start = 0.0 if conv.wrap == "positive" else -np.pi
+    free = start + 2 * np.pi * (np.arange(samples) + (0 if conv.wrap == "positive" else 1)) / samples
+    if at:
+        third = _wrap_outer(s * (k - free), conv)
+        fam = np.stack([free, np.full(samples, b0), third], axis=-1) / scale
+    else:
+        fam = np.full((samples, 3), np.nan)
+    return EulerSolutions(conv, angles, np.float64(dist) / scale, np.float64(b0) / scale, float(tolerance),
+                          np.bool_(at), regular / scale, s, np.array(k / scale if at else np.nan),
+                          free / scale, fam)
+
+
 def _solutions_of_readback(conv: Convention, angles, rad, tolerance: float, samples: int) -> EulerSolutions:
+    if rad.shape == (3,):
+        return _solutions_of_one(conv, angles, rad, tolerance, samples)
+    return _solutions_of_batch(conv, angles, rad, tolerance, samples)
+
+
+def _solutions_of_batch(conv: Convention, angles, rad, tolerance: float, samples: int) -> EulerSolutions:
     scale = _scale(conv)
     a, b, c = rad[..., 0], rad[..., 1], rad[..., 2]
     dist = _distance_of_middle(b, conv)

@@ -110,7 +110,10 @@ _BODY_FACES = np.array([[0, 1, 3], [0, 3, 2], [5, 4, 3], [6, 7, 8]])
 
 
 def body_points(rotation, origin=None, scale: float = 1.0, *, check: bool = True) -> np.ndarray:
-    """Vertices ``(9, 3)`` of the dart body placed by ``rotation (3, 3)`` and ``origin (3,)`` (``check`` as in :func:`frame_points`)."""
+    """Vertices ``(9, 3)`` of the dart body placed by ``rotation (3, 3)`` and ``origin (3,)``.
+
+    ``check`` as in :func:`frame_points`.
+    """
     r = checked_matrix(rotation) if check else np.asarray(rotation, dtype=np.float64)
     o = np.zeros(3) if origin is None else as_numbers(origin, "origin", (3,))
     return (scale * _BODY_VERTICES) @ r.T + o
