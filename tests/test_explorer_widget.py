@@ -169,3 +169,16 @@ def test_unchecked_drawing_and_pole_readout_give_the_checked_results():
                  lambda: pole_readout(2 * np.eye(3))):
         with pytest.raises(NotOrthonormalError):
             call()
+
+
+def test_palette_change_recolours_the_frames_in_one_message():
+    from posekit.view.frames import PALETTES
+
+    ex = Explorer(angles=(10.0, 20.0, 30.0))
+    plot = _listen(ex.figure)
+    ex.palette = "colour-blind"
+    assert ex.figure.data[1].line.color[0] == PALETTES["colour-blind"][0]
+    assert ex.figure.data[1].marker.color[-1] == PALETTES["colour-blind"][2]
+    assert [m["state"].get("_py2js_update") is not None for m in plot.sent].count(True) == 1
+    ex.palette = "standard"
+    assert ex.figure.data[1].line.color[0] == PALETTES["standard"][0]

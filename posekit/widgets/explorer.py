@@ -234,9 +234,9 @@ class Explorer(w.VBox):
                            palette=self.palette, extent=EXTENT, height=520)
         with self.figure.batch_update():
             for k, trace in enumerate(fig.data):
-                self.figure.data[k].line = trace.line
-                self.figure.data[k].marker = trace.marker
-                self.figure.data[k].textfont = trace.textfont
+                for part in ("line", "marker", "textfont"):
+                    if part in trace:  # the body is a mesh: it has none of them
+                        self.figure.data[k][part] = trace[part]
         self._refresh()
 
     def _on_state(self, change) -> None:
