@@ -215,6 +215,22 @@ def test_text_forms_and_separators():
     assert pk.Convention.parse(a) is a
 
 
+def test_parse_remembers_texts_but_never_errors():
+    # the parse of a text is remembered (conventions are frozen, so sharing one is safe) ...
+    text = "sequence=x-z-x unit=degrees wrap=positive"
+    first = pk.Convention.parse(text)
+    assert pk.Convention.parse(text) is first and first == pk.Convention(sequence="xzx", unit="degrees",
+                                                                          wrap="positive")
+    # ... a bad text raises its typed error on every call, not only the first
+    for _ in range(3):
+        with pytest.raises(E.ConventionTextError, match="unknown key"):
+            pk.Convention.parse("order=zyx")
+    # a subclass still gets instances of its own class
+    class Mine(pk.Convention):
+        pass
+    assert type(Mine.parse(text)) is Mine and Mine.parse(text).to_text() == first.to_text()
+
+
 def test_describe_says_every_axis_in_words():
     for c in all_conventions():
         words = c.describe()

@@ -13,8 +13,8 @@ import pytest
 from scipy.spatial.transform import Rotation
 
 import posekit as pk
-from posekit.analysis import (EulerSolutions, analyse_pole, euler_rate_jacobian, euler_solutions, lock_gauge,
-                              pole_distance, readback_sensitivity)
+from posekit.analysis import (DEFAULT_POLE_TOLERANCE, EulerSolutions, analyse_pole, euler_rate_jacobian,
+                              euler_solutions, lock_gauge, pole_distance, pole_readout, readback_sensitivity)
 from posekit.core.convention import CHOICES
 from posekit.core.errors import NotOrthonormalError, PoseInputError
 
@@ -240,3 +240,66 @@ def test_bad_input_raises_typed_errors():
         pole_distance(2 * np.eye(3))
     with pytest.raises(PoseInputError, match="step"):
         readback_sensitivity(np.eye(3), None, step=0.5)
+
+
+# --- pole_readout: the two results of one readback ------------------------------------------------------
+
+def _same(a, b):
+    for name in a.__dataclass_fields__:
+        x, y = getattr(a, name), getattr(b, name)
+        if isinstance(x, np.ndarray) or isinstance(y, np.ndarray):
+            np.testing.assert_array_equal(np.asarray(x), np.asarray(y), err_msg=name)
+        else:
+            assert x == y, name
+
+
+@pytest.mark.parametrize("conv", CONVENTIONS, ids=IDS)
+def test_pole_readout_equals_separate_calls(conv):
+    rng = np.random.default_rng(5)
+    pole = poles(conv)[0]
+    cases = [rotation_of(conv, *rng.uniform(-3, 3, 3)) for _ in range(4)]
+    cases += [rotation_of(conv, 0.4, pole, -0.3), rotation_of(conv, 0.4, pole + 1e-6, -0.3),
+              pk.read_rotation(rng.normal(size=(3, 4)), "quaternion", None, normalise=True)]
+    for R in cases:
+        for frame in (None, "body", "space"):
+            sol, gauge = pole_readout(R, conv, frame)
+            _same(sol, euler_solutions(R, conv))
+            _same(gauge, lock_gauge(R, conv, frame))
+        if R.ndim == 2:  # the text form of the convention gives the same words
+            assert pole_readout(R, conv.to_text())[0].words() == euler_solutions(R, conv).words()
+
+
+def test_pole_readout_bad_input_raises_like_the_separate_calls():
+    with pytest.raises(PoseInputError, match="frame"):
+        pole_readout(np.eye(3), None, "world")
+    with pytest.raises(PoseInputError, match="samples"):
+        pole_readout(np.eye(3), None, samples=1)
+    with pytest.raises(NotOrthonormalError):
+        pole_readout(2 * np.eye(3))
+
+
+@pytest.mark.parametrize("conv", CONVENTIONS, ids=IDS)
+def test_single_rotation_route_gives_the_batch_routes_numbers_and_types(conv):
+    # one rotation takes a route on floats (fewer numpy calls per widget update); it must
+    # agree bit for bit, type for type, with the array route, at and off the pole
+    from posekit.analysis.singularity import _readback, _scale, _solutions_of_batch, _solutions_of_one
+
+    rng = np.random.default_rng(11)
+    tol = DEFAULT_POLE_TOLERANCE / _scale(conv)
+    cases = [rotation_of(conv, *rng.uniform(-4, 4, 3)) for _ in range(20)]
+    cases += [rotation_of(conv, x, p + d, z) for p in poles(conv) for d in (0.0, 1e-12, -1e-7, 0.3)
+              for x, z in ((0.4, -0.3), (np.pi, 0.0), (-2.0, 3.0))]
+    for R in cases:
+        _, angles, rad = _readback(R, conv)
+        for samples in (2, 73):
+            one = _solutions_of_one(conv, angles, rad, tol, samples)
+            batch = _solutions_of_batch(conv, angles, rad, tol, samples)
+            for name in one.__dataclass_fields__:
+                x, y = getattr(one, name), getattr(batch, name)
+                assert type(x) is type(y) and np.shape(x) == np.shape(y), name
+                if isinstance(x, np.ndarray):
+                    assert x.dtype == y.dtype, name
+                    np.testing.assert_array_equal(x, y, err_msg=name)
+                else:
+                    assert x == y, name
+            assert one.words() == batch.words()

@@ -3,6 +3,7 @@
 from .scipy_bridge import from_scipy_rotation, from_scipy_transform, to_scipy_rotation, to_scipy_transform
 from .singularity import (DEFAULT_POLE_TOLERANCE, FRAMES, EulerSolutions, LockGauge, PoleAnalysis, Sensitivity,
                           analyse_pole, euler_rate_jacobian, euler_solutions, lock_gauge, pole_distance,
+                          pole_readout,
                           readback_sensitivity)
 from .state import (State, StateFileError, load_state, read_report_state, save_state, state_from_json,
                     state_to_json)
@@ -14,7 +15,8 @@ from .trajectory import (FINDINGS, TRAJECTORY_KINDS, ColumnMapping, EmptyTraject
 __all__ = [
     "to_scipy_rotation", "from_scipy_rotation", "to_scipy_transform", "from_scipy_transform",
     "DEFAULT_POLE_TOLERANCE", "FRAMES", "EulerSolutions", "LockGauge", "PoleAnalysis", "Sensitivity",
-    "analyse_pole", "euler_rate_jacobian", "euler_solutions", "lock_gauge", "pole_distance", "readback_sensitivity",
+    "analyse_pole", "euler_rate_jacobian", "euler_solutions", "lock_gauge", "pole_distance", "pole_readout",
+    "readback_sensitivity",
     "State", "StateFileError", "load_state", "read_report_state", "save_state", "state_from_json", "state_to_json",
     "DEFAULT_JUMP_THRESHOLD", "Sweep", "sign_continuous", "sweep_between", "sweep_one_angle", "sweep_rotations",
     "FINDINGS", "TRAJECTORY_KINDS", "ColumnMapping", "EmptyTrajectoryError", "Finding", "MissingColumnError",

@@ -52,6 +52,7 @@ __all__ = [
     "lock_gauge",
     "readback_sensitivity",
     "euler_solutions",
+    "pole_readout",
     "analyse_pole",
 ]
 
@@ -101,9 +102,9 @@ def _check_frame(frame, conv: Convention) -> str:
     return frame
 
 
-def _readback(rotation, conv: Convention):
+def _readback(rotation, conv: Convention, check: bool = True):
     """Canonical ``(..., 3, 3)`` -> (readback in the convention's unit (..., 3), radians (..., 3))."""
-    m = checked_matrix(rotation)
+    m = checked_matrix(rotation) if check else np.asarray(rotation, dtype=np.float64)
     angles = write_rotation(m, "euler", conv, check=False)
     return m, angles, angles * _scale(conv)
 
@@ -256,6 +257,10 @@ def lock_gauge(rotation, convention=None, frame: str | None = None) -> LockGauge
     conv = as_convention(convention)
     frame = _check_frame(frame, conv)
     _, angles, _ = _readback(rotation, conv)
+    return _gauge_of_readback(conv, frame, angles)
+
+
+def _gauge_of_readback(conv: Convention, frame: str, angles) -> LockGauge:
     jac = euler_rate_jacobian(angles, conv, frame) / _scale(conv)
     sv = np.linalg.svd(jac, compute_uv=False)
     smallest = sv[..., 2]
@@ -443,14 +448,67 @@ def euler_solutions(rotation, convention=None, tolerance: float | None = None, s
     if not (isinstance(samples, (int, np.integer)) and samples >= 2):
         raise PoseInputError(f"samples: got {samples!r}; expected an integer >= 2")
     _, angles, rad = _readback(rotation, conv)
+    return _solutions_of_readback(conv, angles, rad, tolerance, samples)
+
+
+def _wrap_outer_one(x: float, conv: Convention) -> float:
+    """:func:`_wrap_outer` of one float, with the same operations (Python's % is numpy's remainder)."""
+    out = (x + np.pi) % (2 * np.pi) - np.pi
+    if out <= -np.pi:
+        out += 2 * np.pi
+    if conv.wrap == "positive":
+        out = out % (2 * np.pi)
+        if out >= 2 * np.pi:
+            out = 0.0
+    return out
+
+
+def _solutions_of_one(conv: Convention, angles, rad, tolerance: float, samples: int) -> EulerSolutions:
+    """:func:`_solutions_of_readback` for a single rotation, on floats: the same numbers, fewer numpy calls."""
+    scale = _scale(conv)
+    a, b, c = (float(v) for v in rad)
+    if conv.is_tait_bryan:
+        dist = max(0.5 * np.pi - abs(b), 0.0)
+        b0 = 0.5 * np.pi if b >= 0 else -0.5 * np.pi
+        second_middle = (np.pi - b + np.pi) % (2 * np.pi) - np.pi
+        if second_middle <= -np.pi:
+            second_middle += 2 * np.pi
+    else:
+        dist = max(min(b, np.pi - b), 0.0)
+        b0 = 0.0 if b <= 0.5 * np.pi else np.pi
+        second_middle = -b
+    at = dist <= tolerance * scale
+    regular = np.array([[_wrap_outer_one(a, conv), b, _wrap_outer_one(c, conv)],
+                        [_wrap_outer_one(a + np.pi, conv), second_middle, _wrap_outer_one(c + np.pi, conv)]])
+    s = _fixed_sign(conv, np.float64(b0))
+    k = _wrap_outer_one(a + int(s) * c, conv)
+    start = 0.0 if conv.wrap == "positive" else -np.pi
+    free = start + 2 * np.pi * (np.arange(samples) + (0 if conv.wrap == "positive" else 1)) / samples
+    if at:
+        third = _wrap_outer(s * (k - free), conv)
+        fam = np.stack([free, np.full(samples, b0), third], axis=-1) / scale
+    else:
+        fam = np.full((samples, 3), np.nan)
+    return EulerSolutions(conv, angles, np.float64(dist) / scale, np.float64(b0) / scale, float(tolerance),
+                          np.bool_(at), regular / scale, s, np.array(k / scale if at else np.nan),
+                          free / scale, fam)
+
+
+def _solutions_of_readback(conv: Convention, angles, rad, tolerance: float, samples: int) -> EulerSolutions:
+    if rad.shape == (3,):
+        return _solutions_of_one(conv, angles, rad, tolerance, samples)
+    return _solutions_of_batch(conv, angles, rad, tolerance, samples)
+
+
+def _solutions_of_batch(conv: Convention, angles, rad, tolerance: float, samples: int) -> EulerSolutions:
+    scale = _scale(conv)
     a, b, c = rad[..., 0], rad[..., 1], rad[..., 2]
     dist = _distance_of_middle(b, conv)
     b0 = _pole_middle(b, conv)
     at = dist <= tolerance * scale
     second_middle = _wrap_signed(np.pi - b) if conv.is_tait_bryan else -b
-    second = np.stack([_wrap_outer(a + np.pi, conv), second_middle, _wrap_outer(c + np.pi, conv)], axis=-1)
-    first_reg = np.stack([_wrap_outer(a, conv), b, _wrap_outer(c, conv)], axis=-1)
-    regular = np.stack([first_reg, second], axis=-2)
+    wa, wc, wa2, wc2 = _wrap_outer(np.stack([a, c, a + np.pi, c + np.pi]), conv)  # one pass, same numbers
+    regular = np.stack([wa, b, wc, wa2, second_middle, wc2], axis=-1).reshape(b.shape + (2, 3))
     s = _fixed_sign(conv, b0)
     k = _wrap_outer(a + s * c, conv)
     start = 0.0 if conv.wrap == "positive" else -np.pi
@@ -460,6 +518,27 @@ def euler_solutions(rotation, convention=None, tolerance: float | None = None, s
     fam = np.where(at[..., None, None], fam, np.nan)
     return EulerSolutions(conv, angles, dist / scale, b0 / scale, float(tolerance), at, regular / scale, s,
                           np.where(at, k / scale, np.nan), free / scale, fam / scale)
+
+
+def pole_readout(rotation, convention=None, frame: str | None = None, samples: int = 73, *, check: bool = True):
+    """``(euler_solutions(R, c), lock_gauge(R, c, frame))`` of rotations ``(..., 3, 3)`` from one readback.
+
+    The same two results as the separate calls (same defaults), for callers that show
+    both on every update (the explorer's readouts): the rotation is checked and the
+    Euler readback written once instead of twice.  ``check=False`` skips checking a
+    rotation that posekit's core has just computed (as in ``write_rotation``).
+
+    >>> sol, gauge = pole_readout(read_rotation([0, 90, 0], "euler", "unit=degrees"), "unit=degrees")
+    >>> bool(sol.at_pole), bool(gauge.gauge < 1e-12)
+    (True, True)
+    """
+    conv = as_convention(convention)
+    frame = _check_frame(frame, conv)
+    if not (isinstance(samples, (int, np.integer)) and samples >= 2):
+        raise PoseInputError(f"samples: got {samples!r}; expected an integer >= 2")
+    _, angles, rad = _readback(rotation, conv, check)
+    return (_solutions_of_readback(conv, angles, rad, DEFAULT_POLE_TOLERANCE / _scale(conv), samples),
+            _gauge_of_readback(conv, frame, angles))
 
 
 @dataclass(frozen=True)

@@ -38,6 +38,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, fields, replace
+from functools import lru_cache
 
 from .errors import ConventionError, ConventionTextError
 from .rotation import PROPER_EULER, SEQUENCES, TAIT_BRYAN
@@ -149,6 +150,12 @@ class Convention:
         if not isinstance(text, str):
             raise ConventionTextError(f"convention text: got {type(text).__name__} {text!r}; "
                                       "expected a string such as 'sequence=z-y-x unit=degrees'")
+        if cls is Convention:
+            return _parse_cached(text)  # conventions are frozen, so one parse per text serves every caller
+        return cls._parse_text(text)
+
+    @classmethod
+    def _parse_text(cls, text: str) -> "Convention":
         settings: dict[str, str] = {}
         for word in [w for w in re.split(r"[\s,;]+", text.strip()) if w]:
             if word != word.lower():
@@ -218,3 +225,9 @@ class Convention:
 
 
 DEFAULT = Convention()
+
+
+@lru_cache(maxsize=512)
+def _parse_cached(text: str) -> Convention:
+    """``Convention.parse`` of one text, remembered (bad text raises every time: errors are not cached)."""
+    return Convention._parse_text(text)

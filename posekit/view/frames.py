@@ -46,12 +46,14 @@ def palette_colours(palette: str) -> tuple[str, str, str]:
     return PALETTES[palette]
 
 
-def frame_points(rotation, origin=None, scale: float = 1.0):
+def frame_points(rotation, origin=None, scale: float = 1.0, *, check: bool = True):
     """Arrow polyline of one frame: ``rotation (3, 3)``, ``origin (3,)`` -> ``x, y, z`` lists of 8.
 
     Points are origin, x tip, gap, origin, y tip, gap, origin, z tip (gaps are None).
+    ``check=False`` skips validating a rotation that posekit's core has just computed
+    (as in ``write_rotation``); the origin is always checked.
     """
-    r = checked_matrix(rotation)
+    r = checked_matrix(rotation) if check else np.asarray(rotation, dtype=np.float64)
     o = np.zeros(3) if origin is None else as_numbers(origin, "origin", (3,))
     tips = o[:, None] + scale * r  # column k is the tip of axis k
     xs, ys, zs = [], [], []
@@ -107,9 +109,12 @@ _BODY_VERTICES = np.array([
 _BODY_FACES = np.array([[0, 1, 3], [0, 3, 2], [5, 4, 3], [6, 7, 8]])
 
 
-def body_points(rotation, origin=None, scale: float = 1.0) -> np.ndarray:
-    """Vertices ``(9, 3)`` of the dart body placed by ``rotation (3, 3)`` and ``origin (3,)``."""
-    r = checked_matrix(rotation)
+def body_points(rotation, origin=None, scale: float = 1.0, *, check: bool = True) -> np.ndarray:
+    """Vertices ``(9, 3)`` of the dart body placed by ``rotation (3, 3)`` and ``origin (3,)``.
+
+    ``check`` as in :func:`frame_points`.
+    """
+    r = checked_matrix(rotation) if check else np.asarray(rotation, dtype=np.float64)
     o = np.zeros(3) if origin is None else as_numbers(origin, "origin", (3,))
     return (scale * _BODY_VERTICES) @ r.T + o
 

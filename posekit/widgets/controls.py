@@ -7,11 +7,13 @@ from __future__ import annotations
 
 import anywidget
 import ipywidgets as w
+import plotly.graph_objects as go
 import traitlets as t
+from plotly.basedatatypes import BaseFigure, Undefined
 
 from ..core.convention import CHOICES
 
-__all__ = ["ConventionBar", "NumberRow", "KeyboardScope"]
+__all__ = ["ConventionBar", "NumberRow", "KeyboardScope", "OneMessageFigure"]
 
 _LABELS = {
     "sequence": "Euler sequence",
@@ -165,3 +167,71 @@ class KeyboardScope(anywidget.AnyWidget):
     };
     """
     scope = t.Unicode(".posekit-graph-explorer").tag(sync=True)
+
+
+class OneMessageFigure(go.FigureWidget):
+    """A plotly ``FigureWidget`` whose restyles and batch updates reach the page as one comm message each.
+
+    plotly sends every restyle (and every ``batch_update``) as four messages: each of
+    the two edit counters, the restyle itself, then a reset of its trait to None (which
+    the page ignores).
+    Here the counters travel in the same update message as the restyle, and the reset
+    stays in the kernel (a view built later reads the trait's None from the kernel, as
+    before).  The Python-side figure data is updated by plotly exactly as before.
+    Inside an enclosing ``hold_sync`` plotly's own route is kept.
+    """
+
+    def _perform_plotly_restyle(self, restyle_data, trace_indexes):
+        """plotly's update of the kernel-side trace data, with a cheaper check of plain property names.
+
+        plotly checks every (key, trace) pair by reading the property from the trace;
+        a plain name (no ``.`` or ``[``) is valid exactly when it is one of the trace's
+        properties, which is a set lookup.  Anything else takes plotly's own route.
+        The changes returned and the data set are the same as plotly's.
+        """
+        traces = self.data
+        plain = all(isinstance(key, str) and "." not in key and "[" not in key for key in restyle_data)
+        if not (plain and all(0 <= i < len(traces) for i in trace_indexes)
+                and all(key in traces[i]._valid_props for key in restyle_data for i in trace_indexes)):
+            return super()._perform_plotly_restyle(restyle_data, trace_indexes)
+        changes = {}
+        for key, v in restyle_data.items():
+            changed = False
+            for n, i in enumerate(trace_indexes):
+                value = v[n % len(v)] if isinstance(v, list) else v
+                if value is not Undefined:
+                    changed = BaseFigure._set_in(self._data[i], key, value) or changed
+            if changed:
+                changes[key] = v
+        return changes
+
+    def _send_restyle_msg(self, restyle_data, trace_indexes=None, source_view_id=None):
+        if self._holding_sync:
+            return super()._send_restyle_msg(restyle_data, trace_indexes, source_view_id)
+        self._send_one("_py2js_restyle", lambda layout_id, trace_id: {
+            "restyle_data": restyle_data, "restyle_traces": self._normalize_trace_indexes(trace_indexes),
+            "trace_edit_id": trace_id, "layout_edit_id": layout_id, "source_view_id": source_view_id})
+
+    def _send_update_msg(self, restyle_data, relayout_data, trace_indexes=None, source_view_id=None):
+        """What ``batch_update`` sends: as one message, like the restyle above."""
+        if self._holding_sync:
+            return super()._send_update_msg(restyle_data, relayout_data, trace_indexes, source_view_id)
+        self._send_one("_py2js_update", lambda layout_id, trace_id: {
+            "style_data": restyle_data, "layout_data": relayout_data,
+            "style_traces": self._normalize_trace_indexes(trace_indexes), "trace_edit_id": trace_id,
+            "layout_edit_id": layout_id, "source_view_id": source_view_id})
+
+    def _send_one(self, name: str, build) -> None:
+        """Send plotly's message ``build(layout_edit_id, trace_edit_id)`` in trait ``name`` with both counters."""
+        self._layout_edit_in_process = True
+        self._trace_edit_in_process = True
+        with self.hold_sync():  # one 'update' message: both counters and plotly's message
+            self._last_layout_edit_id += 1
+            self._last_trace_edit_id += 1
+            setattr(self, name, build(self._last_layout_edit_id, self._last_trace_edit_id))
+        locked = self._property_lock
+        self._property_lock = {**locked, name: None}  # the page already holds the message
+        try:
+            setattr(self, name, None)
+        finally:
+            self._property_lock = locked

@@ -33,7 +33,7 @@ from ..core.transforms import Pose, make_transform, write_transform
 from ..view.diagnosis import error_html, parsed_html, residual_figure
 from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET, matrix_html, panel_html
-from .controls import ConventionBar, KeyboardScope
+from .controls import ConventionBar, KeyboardScope, OneMessageFigure
 from .sharing import SharePanel, python_call
 
 __all__ = ["DebugDesk", "EXPECTED_KINDS", "DESK_FIELDS"]
@@ -214,7 +214,7 @@ class DebugDesk(w.VBox):
         fig = frame_figure(np.eye(3), np.zeros(3), overlays=[("read", np.eye(3), np.zeros(3)),
                                                               ("fixed", np.eye(3), np.zeros(3))],
                            palette=palette, height=470)
-        self.figure = go.FigureWidget(self._style_figure(fig))
+        self.figure = OneMessageFigure(self._style_figure(fig))
         self.figure.add_class("posekit-desk-figure")
         self.figure_box = w.Box([self.figure], layout=w.Layout(width="100%"))
         self.figure_box.add_class("posekit-desk-3d")

@@ -17,13 +17,13 @@ import traitlets as t
 from ..core.convention import Convention
 from ..core.errors import PoseInputError
 from ..core.reading import as_convention, read_rotation, write_rotation
-from ..analysis.singularity import euler_solutions, lock_gauge
+from ..analysis.singularity import pole_readout
 from ..core.steps import euler_steps
 from ..core.transforms import Pose, make_transform, write_transform
 from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET, gauge_html, matrix_html, numbers_html, panel_html, row_html, words_html
 from ..analysis.state import NamedPose, State, StateFileError, environment_versions
-from .controls import ConventionBar, KeyboardScope, NumberRow
+from .controls import ConventionBar, KeyboardScope, NumberRow, OneMessageFigure
 from .sharing import SharePanel, python_call
 
 __all__ = ["Explorer"]
@@ -63,6 +63,7 @@ class Explorer(w.VBox):
         a = read_rotation(angles, "euler", conv)  # validates the numbers before anything is built
         del a
         self._syncing = False
+        self._synced_convention = None  # the convention the controls last showed
         lo, hi, step = _ranges(conv)
         angle_values = [float(v) for v in np.asarray(angles, dtype=float)]
         self.angle_rows = [NumberRow(self._angle_label(conv, i), angle_values[i], lo, hi, step, f"angle-{i + 1}")
@@ -88,7 +89,7 @@ class Explorer(w.VBox):
         rot = read_rotation(angle_values, "euler", conv)
         steps = euler_steps(angle_values, conv).frames
         fig = frame_figure(rot, tr, steps=steps, body=True, palette=palette, extent=EXTENT, height=520)
-        self.figure = go.FigureWidget(fig)
+        self.figure = OneMessageFigure(fig)
         self.figure.add_class("posekit-figure")
 
         left = w.VBox([w.HTML("<b>Angles</b> (as entered)")] + self.angle_rows +
@@ -233,9 +234,9 @@ class Explorer(w.VBox):
                            palette=self.palette, extent=EXTENT, height=520)
         with self.figure.batch_update():
             for k, trace in enumerate(fig.data):
-                self.figure.data[k].line = trace.line
-                self.figure.data[k].marker = trace.marker
-                self.figure.data[k].textfont = trace.textfont
+                for part in ("line", "marker", "textfont"):
+                    if part in trace:  # the body is a mesh: it has none of them
+                        self.figure.data[k][part] = trace[part]
         self._refresh()
 
     def _on_state(self, change) -> None:
@@ -245,14 +246,18 @@ class Explorer(w.VBox):
     def _sync_controls(self, conv: Convention) -> None:
         self._syncing = True
         try:
-            lo, hi, step = _ranges(conv)
+            if conv != self._synced_convention:  # ranges, labels and the bar change only with the convention
+                lo, hi, step = _ranges(conv)
+                for i, row in enumerate(self.angle_rows):
+                    row.set_range(lo, hi, step, min(max(self.angles[i], lo), hi))
+                    row.label.value = self._angle_label(conv, i)
+                self.bar.set_settings({f: getattr(conv, f) for f in conv.__dataclass_fields__})
+                self.words.value = words_html("In words: " + conv.describe() + ".")
+                self._synced_convention = conv
             for i, row in enumerate(self.angle_rows):
-                row.set_range(lo, hi, step, min(max(self.angles[i], lo), hi))
-                row.label.value = self._angle_label(conv, i)
                 row.show(self.angles[i])
             for i, row in enumerate(self.translation_rows):
                 row.show(self.translation[i])
-            self.bar.set_settings({f: getattr(conv, f) for f in conv.__dataclass_fields__})
         finally:
             self._syncing = False
 
@@ -262,18 +267,20 @@ class Explorer(w.VBox):
         rot = read_rotation(self.angles, "euler", conv)
         origin = np.asarray(self.translation, dtype=float)
         steps = euler_steps(self.angles, conv)
-        fx, fy, fz = frame_points(rot, origin)
-        body = body_points(rot, origin)
+        # rot and the steps come straight from the core: no second check of the rotations
+        fx, fy, fz = frame_points(rot, origin, check=False)
+        body = body_points(rot, origin, check=False)
         xs, ys, zs = [fx, body[:, 0].tolist()], [fy, body[:, 1].tolist()], [fz, body[:, 2].tolist()]
         for k in (1, 2):
-            sx, sy, sz = frame_points(steps.frames[k], origin, 0.8)
+            sx, sy, sz = frame_points(steps.frames[k], origin, 0.8, check=False)
             xs.append(sx), ys.append(sy), zs.append(sz)
         # one restyle message with only the changed trace data (no figure rebuild)
         self.figure.plotly_restyle({"x": xs, "y": ys, "z": zs,
                                     "visible": [True, self.show_body, self.show_steps, self.show_steps]},
                                    trace_indexes=[_FRAME, _BODY, _STEP1, _STEP2])
-        self.words.value = words_html("In words: " + conv.describe() + ".")
-        self.readouts.value = self._readout_html(conv, rot, origin, steps)
+        html = self._readout_html(conv, rot, origin, steps)
+        if html != self.readouts.value:
+            self.readouts.value = html
 
     def _readout_html(self, conv, rot, origin, steps) -> str:
         unit = "deg" if conv.degrees else "rad"
@@ -283,21 +290,20 @@ class Explorer(w.VBox):
         maps = "child → parent" if conv.direction == "parent-from-child" else "parent → child"
         mat = panel_html(f"Homogeneous matrix as written ({maps})",
                          matrix_html(written) + words_html(f"flat, {conv.layout}: " +
-                                                           ", ".join(f"{v:.6g}" for v in flat)))
+                                                           ", ".join(f"{v:.6g}" for v in flat.tolist())))
         q = write_rotation(rot, "quaternion", conv, check=False)
         labels = ("w", "x", "y", "z") if conv.scalar == "first" else ("x", "y", "z", "w")
         quat = panel_html(f"Quaternion ({conv.algebra.upper() if conv.algebra == 'jpl' else 'Hamilton'}, "
                           f"scalar {conv.scalar})", numbers_html(labels, q, 6) +
                           words_html("−q names the same rotation"))
-        solutions = euler_solutions(rot, conv)
+        solutions, gauge = pole_readout(rot, conv, check=False)  # one readback serves both
         back = solutions.angles  # the readback, exactly as write_rotation writes it
-        same = bool(np.allclose(back, self.angles, atol=1e-9))
+        same = max(abs(b - a) for b, a in zip(back.tolist(), self.angles)) <= 1e-9
         note = "read-back equals the entry" if same else "read-back differs from the entry, same orientation"
         letters = conv.axes_letters
         euler = panel_html(f"Euler angles ({unit})",
                            numbers_html([f"{i + 1}: {letters[i]}" for i in range(3)], self.angles, 4)
                            + numbers_html(["read back 1", "2", "3"], back, 4) + words_html(note))
-        gauge = lock_gauge(rot, conv)
         d = float(solutions.distance)
         if bool(solutions.at_pole):
             lock = "GIMBAL LOCK. " + solutions.words()

@@ -21,7 +21,6 @@ from dataclasses import dataclass
 
 import ipywidgets as w
 import numpy as np
-import plotly.graph_objects as go
 import traitlets as t
 
 from ..analysis.singularity import EulerSolutions, euler_solutions
@@ -35,7 +34,7 @@ from ..view.sweep import (SWEEP_TRACES, angle_name, apply_patch, family_data, fa
                           sweep_patch)
 from ..analysis.state import NamedPose, State, StateFileError, environment_versions
 from ..core.transforms import make_transform
-from .controls import ConventionBar, KeyboardScope, NumberRow
+from .controls import ConventionBar, KeyboardScope, NumberRow, OneMessageFigure
 from .sharing import SharePanel, python_call
 
 __all__ = ["SingularityView", "StepReadout", "SweepSetupError", "BAR_FIELDS", "MAX_STEPS"]
@@ -201,10 +200,10 @@ class SingularityView(w.VBox):
         solutions = euler_solutions(sweep.rotation, conv)
         self._sweep, self._solutions = sweep, solutions
         self._drawn_labels = (conv, swept)
-        self.figure = go.FigureWidget(sweep_figure(sweep, pos, parameter_label=angle_name(conv, swept, unit=True),
+        self.figure = OneMessageFigure(sweep_figure(sweep, pos, parameter_label=angle_name(conv, swept, unit=True),
                                                    height=760))
         self.figure.add_class("posekit-sweep-figure")
-        self.family = go.FigureWidget(family_figure(solutions, pos, height=430, width=430))
+        self.family = OneMessageFigure(family_figure(solutions, pos, height=430, width=430))
         self.family.add_class("posekit-family-figure")
 
         # plain boxes around the figures: stable page selectors for the plots inside
