@@ -3,8 +3,9 @@
  *
  * Optional: posekit/core/compiled.py uses these when the module was built and falls back
  * to the numpy kernels of rotation.py otherwise (same formulas, same results to rounding).
- * The loops are plain arithmetic on C-contiguous float64 rows; the transcendental
- * functions stay in numpy (tan, arctan2), which the caller applies between two loops.
+ * The loops are plain arithmetic on C-contiguous float64 rows.  Sines and cosines of half
+ * angles are computed here (sincos_reduced); arctan2 stays in numpy (vectorised there),
+ * which the caller applies between two loops.
  * Each loop also counts the rows that fail the input check it fuses (orthonormality and
  * determinant of matrices, length of quaternions), so the caller reads the data once and
  * raises posekit's typed error, with its full message, only when the count is not zero.
@@ -14,7 +15,7 @@
  *   quaternion -> matrix: Shuster, J. Astronautical Sciences 41(4), 1993 (Hamilton, active);
  *   matrix -> quaternion: Shepperd, J. Guidance and Control 1(3), 1978 (largest diagonal);
  *   quaternion -> Euler: Bernardes & Viollet, PLoS ONE 17(11), 2022;
- *   half angles from one tangent: the tangent half-angle substitution (common practice).
+ *   sine and cosine: additive range reduction (Cody & Waite 1980) and Taylor series.
  *
  * Only the Python C API's buffer protocol is used (no numpy headers), so building needs a
  * C compiler and Python's headers, nothing else.  The GIL is released inside every loop.
@@ -211,34 +212,77 @@ matrix_quaternion_loop(const double *restrict m, double *restrict out, Py_ssize_
     return bad;
 }
 
-/* Euler angles -> matrix rows, given t = tan(angle / 4) for each of the three angles:
- * cos(angle/2) = (1 - t^2) / (1 + t^2), sin(angle/2) = 2 t / (1 + t^2).  The three
- * elementary quaternions are multiplied in the sequence's order (intrinsic e1 e2 e3,
- * extrinsic e3 e2 e1), then turned into the matrix; `tr` writes the transpose. */
+/* sin and cos of x for |x| <= SINCOS_LIMIT, with no branch (so the tile loops vectorise):
+ * additive range reduction x = k pi/2 + r, |r| <= pi/4, with pi/2 split in three parts whose
+ * first two have 32 significant bits, so k * part is exact for |k| < 2^21 (Cody & Waite,
+ * "Software Manual for the Elementary Functions", 1980; the parts were computed from pi at
+ * 60 digits with mpmath, and test_kernel_routes.py recomputes them).  On |r| <= pi/4 the
+ * Taylor series to r^17 (sin) and r^18 (cos) leave a remainder below 1e-19 (common practice).
+ * The quadrant k mod 4 picks the signs.  Larger |x| is left to libm by the caller. */
+#define SINCOS_LIMIT 1e5
+#define PIO2_1 0x1.921fb54400000p+0
+#define PIO2_2 0x1.0b4611a600000p-34
+#define PIO2_3 0x1.3198a2e037073p-69
+#define TWO_OVER_PI 0x1.45f306dc9c883p-1
+#define ROUNDER 0x1.8p52 /* adding and subtracting 1.5 * 2^52 rounds to the nearest integer */
+
+ALWAYS_INLINE void
+sincos_reduced(double x, double *sn, double *cs)
+{
+    double k = (x * TWO_OVER_PI + ROUNDER) - ROUNDER;
+    double r = ((x - k * PIO2_1) - k * PIO2_2) - k * PIO2_3;
+    double r2 = r * r;
+    double ps = -0x1.5555555555555p-3 + r2 * (0x1.1111111111111p-7 + r2 * (-0x1.a01a01a01a01ap-13
+              + r2 * (0x1.71de3a556c734p-19 + r2 * (-0x1.ae64567f544e4p-26 + r2 * (0x1.6124613a86d09p-33
+              + r2 * (-0x1.ae7f3e733b81fp-41 + r2 * 0x1.952c77030ad4ap-49))))));
+    double pc = -0.5 + r2 * (0x1.5555555555555p-5 + r2 * (-0x1.6c16c16c16c17p-10 + r2 * (0x1.a01a01a01a01ap-16
+              + r2 * (-0x1.27e4fb7789f5cp-22 + r2 * (0x1.1eed8eff8d898p-29 + r2 * (-0x1.93974a8c07c9dp-37
+              + r2 * (0x1.ae7f3e733b81fp-45 - r2 * 0x1.6827863b97d97p-53)))))));
+    double s = r + r * r2 * ps, c = 1.0 + r2 * pc;
+    double q = k - 4.0 * ((k * 0.25 + ROUNDER) - ROUNDER); /* k mod 4, as one of -2 .. 2 */
+    double sq = q == 0.0 ? s : (q == 1.0 ? c : (q == -1.0 ? -c : -s));
+    double cq = q == 0.0 ? c : (q == 1.0 ? -s : (q == -1.0 ? s : -c));
+    *sn = sq;
+    *cs = cq;
+}
+
+/* Euler angles (radians) -> matrix rows: the elementary quaternions (cos, sin of half of
+ * each angle) multiplied in the sequence's order (intrinsic e1 e2 e3, extrinsic e3 e2 e1),
+ * then turned into the matrix; `tr` writes the transpose. */
 WIDE static void
-euler_matrix_loop(const double *restrict tq, double *restrict out, Py_ssize_t n, int ax0, int ax1, int ax2,
+euler_matrix_loop(const double *restrict ang, double *restrict out, Py_ssize_t n, int ax0, int ax1, int ax2,
                   int intrinsic, int tr)
 {
     /* one-hot masks put the sine on the turn's axis without indexing by a run-time number */
     const double m0x = ax0 == 0, m0y = ax0 == 1, m0z = ax0 == 2;
     const double m1x = ax1 == 0, m1y = ax1 == 1, m1z = ax1 == 2;
     const double m2x = ax2 == 0, m2y = ax2 == 1, m2z = ax2 == 2;
-    double a[3 * TILE], o[9 * TILE];
+    double a[3 * TILE], c[3 * TILE], s[3 * TILE], o[9 * TILE];
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
         Py_ssize_t nt = TILE_ROWS(n, r0);
-        load_tile(tq + 3 * r0, 3, nt, a, ZEROS);
+        load_tile(ang + 3 * r0, 3, nt, a, ZEROS);
+        int large = 0;
         for (Py_ssize_t t = 0; t < TILE; t++) {
-            double c[3], s[3];
             for (int k = 0; k < 3; k++) {
-                double tk = AT(a, k);
-                tk = tk > 1e150 ? 1e150 : (tk < -1e150 ? -1e150 : tk); /* keeps t^2 finite */
-                double t2 = tk * tk, inv = 1.0 / (1.0 + t2);
-                c[k] = (1.0 - t2) * inv;
-                s[k] = (tk + tk) * inv;
+                double h = 0.5 * AT(a, k), sk, ck;
+                large |= !(fabs(h) <= SINCOS_LIMIT);
+                sincos_reduced(h, &sk, &ck);
+                AT(s, k) = sk;
+                AT(c, k) = ck;
             }
-            double a0w = c[0], a0x = s[0] * m0x, a0y = s[0] * m0y, a0z = s[0] * m0z;
-            double a2w = c[2], a2x = s[2] * m2x, a2y = s[2] * m2y, a2z = s[2] * m2z;
-            double bw = c[1], bx = s[1] * m1x, by = s[1] * m1y, bz = s[1] * m1z;
+        }
+        if (large) /* beyond the reduction's range: libm's own reduction */
+            for (Py_ssize_t t = 0; t < TILE; t++)
+                for (int k = 0; k < 3; k++)
+                    if (!(fabs(0.5 * AT(a, k)) <= SINCOS_LIMIT)) {
+                        AT(s, k) = sin(0.5 * AT(a, k));
+                        AT(c, k) = cos(0.5 * AT(a, k));
+                    }
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double c0 = AT(c, 0), c1 = AT(c, 1), c2 = AT(c, 2), s0 = AT(s, 0), s1 = AT(s, 1), s2 = AT(s, 2);
+            double a0w = c0, a0x = s0 * m0x, a0y = s0 * m0y, a0z = s0 * m0z;
+            double a2w = c2, a2x = s2 * m2x, a2y = s2 * m2y, a2z = s2 * m2z;
+            double bw = c1, bx = s1 * m1x, by = s1 * m1y, bz = s1 * m1z;
             /* first and last factor of the product */
             double fw = intrinsic ? a0w : a2w, fx = intrinsic ? a0x : a2x;
             double fy = intrinsic ? a0y : a2y, fz = intrinsic ? a0z : a2z;
@@ -620,7 +664,7 @@ static PyMethodDef methods[] = {
     {"matrix_quaternion", py_matrix_quaternion, METH_VARARGS,
      "matrix_quaternion(m, out, transpose, scalar_last, tol) -> rows that are not rotations"},
     {"euler_matrix", py_euler_matrix, METH_VARARGS,
-     "euler_matrix(tan_quarter_angles, out, (a0, a1, a2), intrinsic, transpose)"},
+     "euler_matrix(angles_in_radians, out, (a0, a1, a2), intrinsic, transpose)"},
     {"euler_arguments", py_euler_arguments, METH_VARARGS,
      "euler_arguments(m, out6, (i, j, k), proper, eps, transpose, tol) -> rows that are not rotations"},
     {"euler_finish", py_euler_finish, METH_VARARGS,

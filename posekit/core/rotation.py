@@ -337,18 +337,8 @@ def matrix_of_euler(angles, sequence: str, intrinsic: bool, transpose: bool = Fa
     if loops is not None:
         out = np.empty((flat.shape[0], 9))
         axes = _axes(sequence)
-
-        def part(start, stop):
-            # numpy's tan is vectorised; the loop takes the half angles from t = tan(angle / 4),
-            # block by block so the tangents stay in the CPU cache
-            buf = np.empty((min(BLOCK, stop - start), 3))
-            for s in range(start, stop, BLOCK):
-                e = min(s + BLOCK, stop)
-                t = np.multiply(flat[s:e], 0.25, out=buf[: e - s])
-                np.tan(t, out=t)
-                loops.euler_matrix(t, out[s:e], axes, intrinsic, transpose)
-
-        compiled.in_parts(len(flat), part)
+        compiled.in_parts(len(flat), lambda a, b: loops.euler_matrix(flat[a:b], out[a:b], axes, intrinsic,
+                                                                     transpose))
         return out.reshape(lead + (3, 3))
 
     def block(out, a):
