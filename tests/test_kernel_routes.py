@@ -79,8 +79,11 @@ def test_routes_agree_on_canonical_kernels_and_products():
     m_fast, m_slow = both(lambda: rot.matrix_of_quaternion(q))
     agree(m_fast, m_slow)
     agree(*both(lambda: rot.quaternion_of_matrix(m_slow)))
-    a_fast, a_slow = both(lambda: rot.euler_of_matrix(m_slow, "zyz", False))
-    agree(a_fast[1], a_slow[1])  # pole distances
+    for seq, intrinsic in (("zyz", False), ("zyx", True), ("xzy", False), ("yxy", True)):
+        a_fast, a_slow = both(lambda: rot.euler_of_matrix(m_slow, seq, intrinsic))
+        agree(a_fast[1], a_slow[1])  # pole distances
+        # the angles themselves (the loop's own arctangent against numpy's), across the (-pi, pi] seam too
+        agree(np.remainder(a_fast[0] - a_slow[0] + np.pi, 2 * np.pi) - np.pi, np.zeros_like(a_fast[0]), 1e-12)
     m2 = np.roll(m_slow, 1, axis=0)
     agree(*both(lambda: pk.compose(m_slow, m2, m_slow)))
     v = rng.standard_normal((N, 3))

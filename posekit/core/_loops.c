@@ -3,9 +3,8 @@
  *
  * Optional: posekit/core/compiled.py uses these when the module was built and falls back
  * to the numpy kernels of rotation.py otherwise (same formulas, same results to rounding).
- * The loops are plain arithmetic on C-contiguous float64 rows.  Sines and cosines of half
- * angles are computed here (sincos_reduced); arctan2 stays in numpy (vectorised there),
- * which the caller applies between two loops.
+ * The loops are plain arithmetic on C-contiguous float64 rows, sines, cosines and
+ * arctangents included (sincos_reduced, atan2_branchless), so each runs as one call.
  * Each loop also counts the rows that fail the input check it fuses (orthonormality and
  * determinant of matrices, length of quaternions), so the caller reads the data once and
  * raises posekit's typed error, with its full message, only when the count is not zero.
@@ -15,7 +14,8 @@
  *   quaternion -> matrix: Shuster, J. Astronautical Sciences 41(4), 1993 (Hamilton, active);
  *   matrix -> quaternion: Shepperd, J. Guidance and Control 1(3), 1978 (largest diagonal);
  *   quaternion -> Euler: Bernardes & Viollet, PLoS ONE 17(11), 2022;
- *   sine and cosine: additive range reduction (Cody & Waite 1980) and Taylor series.
+ *   sine and cosine: additive range reduction (Cody & Waite 1980) and Taylor series;
+ *   arctangent: a pi/6 shift and Taylor series (common practice).
  *
  * Only the Python C API's buffer protocol is used (no numpy headers), so building needs a
  * C compiler and Python's headers, nothing else.  The GIL is released inside every loop.
@@ -304,21 +304,52 @@ euler_matrix_loop(const double *restrict ang, double *restrict out, Py_ssize_t n
     }
 }
 
-/* Matrix rows -> the six arguments of the three arctan2 of Bernardes & Viollet (2022),
- * written as six contiguous rows of `args` (stride n): a, b, c, d, s_plus, s_minus.
- * (i, j, k) are the axes of the sequence as the method reads it (reversed for
- * intrinsic), with k the missing axis for proper Euler sequences; eps the sign of the
- * permutation.  `tr` reads the matrix transposed (the conjugate quaternion). */
+/* atan2(y, x) with C99's quadrants, no branch (a zero's sign is not looked at: atan2(0, -0) is
+ * 0 here, pi in C99; the callers' zero-zero cases are at a pole, where that angle is unused):
+ * t = min/max of |x|, |y| in [0, 1]; above tan(pi/12) the identity
+ * atan t = pi/6 + atan((t sqrt3 - 1) / (sqrt3 + t)) brings it into [0, tan(pi/12)], where
+ * the Taylor series to t^31 leaves a remainder below 1e-19 (both common practice); one
+ * division picks the reduced argument.  Absolute error a few 1e-16. */
+#define PI_OVER_6 0x1.0c152382d7366p-1
+#define PI_OVER_2 0x1.921fb54442d18p+0
+#define SQRT3 0x1.bb67ae8584caap+0
+#define TAN_PI_OVER_12 0x1.126145e9ecd56p-2
+
+ALWAYS_INLINE double
+atan2_branchless(double y, double x)
+{
+    double ax = fabs(x), ay = fabs(y);
+    double hi = ax > ay ? ax : ay, lo = ax > ay ? ay : ax;
+    double reduce = lo > hi * TAN_PI_OVER_12 ? 1.0 : 0.0;
+    double num = reduce > 0.0 ? lo * SQRT3 - hi : lo, den = reduce > 0.0 ? hi * SQRT3 + lo : hi;
+    double t = den > 0.0 ? num / (den > 0.0 ? den : 1.0) : 0.0;
+    double z = t * t;
+    double r = t + t * z * (-1.0 / 3.0 + z * (1.0 / 5.0 + z * (-1.0 / 7.0 + z * (1.0 / 9.0 + z * (-1.0 / 11.0
+             + z * (1.0 / 13.0 + z * (-1.0 / 15.0 + z * (1.0 / 17.0 + z * (-1.0 / 19.0 + z * (1.0 / 21.0
+             + z * (-1.0 / 23.0 + z * (1.0 / 25.0 + z * (-1.0 / 27.0 + z * (1.0 / 29.0 + z * (-1.0 / 31.0)))))))))))))));
+    r = reduce > 0.0 ? r + PI_OVER_6 : r;
+    r = ay > ax ? PI_OVER_2 - r : r;
+    r = x < 0.0 ? M_PI - r : r;
+    return y < 0.0 ? -r : r;
+}
+
+/* Matrix rows -> Euler angles (Bernardes & Viollet 2022) in one pass: the matrix check,
+ * Shepperd's quaternion (read transposed when `tr`: the conjugate), the method's four
+ * numbers a, b, c, d for axes (i, j, k) as it reads the sequence (reversed for intrinsic;
+ * k the missing axis of a proper sequence; eps the permutation's sign), three atan2, the
+ * pole snap (the third listed angle is 0 at a pole, as euler_of_quaternion documents),
+ * the wrap of the outer angles to (-pi, pi], then the angles times `scale` in the user's
+ * order into `out` (n, 3) and, unless NULL, the pole distance into `dist` (n). */
 WIDE static Py_ssize_t
-euler_arguments_loop(const double *restrict m, double *restrict args, Py_ssize_t n, int i, int j, int k,
-                     int proper, double eps, int tr, double tol)
+euler_of_matrix_loop(const double *restrict m, double *restrict out, double *restrict dist, Py_ssize_t n,
+                     int i, int j, int k, int proper, double eps, int intrinsic, int tr, double tol, double scale)
 {
     const double ix = i == 0, iy = i == 1, iz = i == 2;
     const double jx = j == 0, jy = j == 1, jz = j == 2;
     const double kx = k == 0, ky = k == 1, kz = k == 2;
     OFF_DIAGONAL_INDICES(tr);
     Py_ssize_t bad = 0;
-    double a[9 * TILE], o[6 * TILE];
+    double a[9 * TILE], o[4 * TILE];
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
         Py_ssize_t nt = TILE_ROWS(n, r0);
         load_tile(m + 9 * r0, 9, nt, a, EYE);
@@ -334,58 +365,36 @@ euler_arguments_loop(const double *restrict m, double *restrict args, Py_ssize_t
             double vb = proper ? qi : qi + qk * eps;
             double vc = proper ? qj : qj + w;
             double vd = proper ? qk * eps : qk * eps - qi;
-            AT(o, 0) = va;
-            AT(o, 1) = vb;
-            AT(o, 2) = vc;
-            AT(o, 3) = vd;
-            AT(o, 4) = sqrt(va * va + vb * vb); /* |entries| <= 2: no overflow */
-            AT(o, 5) = sqrt(vc * vc + vd * vd);
-        }
-        for (int e = 0; e < 6; e++)
-            memcpy(args + e * n + r0, o + e * TILE, (size_t)nt * sizeof(double));
-    }
-    return bad;
-}
-
-/* The angles from tp = atan2(b, a), tm = atan2(d, c), h = atan2(s_minus, s_plus) (rows of
- * `atans`, stride n) and the pole tests on s_plus, s_minus (rows 4, 5 of `args`): writes
- * (n, 3) angles times `scale` in the user's order, and the pole distance (n).  At a pole
- * the third listed angle is 0, as euler_of_quaternion documents. */
-WIDE static void
-euler_finish_loop(const double *restrict args, const double *restrict atans, double *restrict out,
-                  double *restrict dist, Py_ssize_t n, int intrinsic, int proper, double eps, double scale)
-{
-    const double *sp = args + 4 * n, *sm = args + 5 * n;
-    const double *tp = atans, *tm = atans + n, *h = atans + 2 * n;
-    const int first = intrinsic ? 2 : 0, last = intrinsic ? 0 : 2;
-    double o[3 * TILE];
-    for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
-        Py_ssize_t nt = TILE_ROWS(n, r0);
-        for (Py_ssize_t t = 0; t < nt; t++) {
-            Py_ssize_t r = r0 + t;
-            double t2 = 2.0 * h[r];
-            double t1 = tp[r] - tm[r], t3 = tp[r] + tm[r];
-            double z1 = 2.0 * tp[r], mz = -2.0 * tm[r], pz = 2.0 * tm[r];
-            double at_zero = sm[r] <= POLE_SNAP ? 1.0 : 0.0, at_pi = sp[r] <= POLE_SNAP ? 1.0 : 0.0;
+            double sp = sqrt(va * va + vb * vb), sm = sqrt(vc * vc + vd * vd); /* |entries| <= 2 */
+            double tp = atan2_branchless(vb, va), tm = atan2_branchless(vd, vc);
+            double t2 = 2.0 * atan2_branchless(sm, sp);
+            double t1 = tp - tm, t3 = tp + tm;
+            double z1 = 2.0 * tp, mz = -2.0 * tm, pz = 2.0 * tm;
+            double at_zero = sm <= POLE_SNAP ? 1.0 : 0.0, at_pi = sp <= POLE_SNAP ? 1.0 : 0.0;
             double pole = at_zero + at_pi > 0.0 ? 1.0 : 0.0;
             double s1 = at_zero > 0.0 ? z1 : (at_pi > 0.0 ? mz : t1);
             double s3 = at_zero > 0.0 ? z1 : (at_pi > 0.0 ? pz : t3);
             t1 = intrinsic ? (1.0 - pole) * t1 : s1;
             t3 = intrinsic ? s3 : (1.0 - pole) * t3;
-            double tb2 = t2 - 0.5 * M_PI, tpi = M_PI - t2;
-            double d = proper ? (t2 < tpi ? t2 : tpi) : 0.5 * M_PI - fabs(tb2);
-            t3 = proper ? t3 : eps * t3;
+            /* every value first, then selects: the loop stays free of branches */
+            double tb2 = t2 - 0.5 * M_PI, tpi = M_PI - t2, t3e = eps * t3;
+            double d_proper = t2 < tpi ? t2 : tpi, d_tait = 0.5 * M_PI - fabs(tb2);
+            double d = proper ? d_proper : d_tait;
+            t3 = proper ? t3 : t3e;
             t2 = proper ? t2 : tb2;
             double w1 = t1 > M_PI ? t1 - 2.0 * M_PI : t1, w3 = t3 > M_PI ? t3 - 2.0 * M_PI : t3;
             w1 = w1 <= -M_PI ? w1 + 2.0 * M_PI : w1;
             w3 = w3 <= -M_PI ? w3 + 2.0 * M_PI : w3;
-            AT(o, first) = w1 * scale;
+            AT(o, 0) = (intrinsic ? w3 : w1) * scale; /* the user's first angle */
             AT(o, 1) = t2 * scale;
-            AT(o, last) = w3 * scale;
-            dist[r] = d > 0.0 ? d : 0.0;
+            AT(o, 2) = (intrinsic ? w1 : w3) * scale;
+            AT(o, 3) = d > 0.0 ? d : 0.0;
         }
         store_tile(out + 3 * r0, 3, nt, o);
+        if (dist != NULL)
+            memcpy(dist + r0, o + 3 * TILE, (size_t)nt * sizeof(double));
     }
+    return bad;
 }
 
 WIDE static Py_ssize_t
@@ -575,44 +584,30 @@ py_euler_matrix(PyObject *self, PyObject *args)
 }
 
 static PyObject *
-py_euler_arguments(PyObject *self, PyObject *args)
+py_euler_of_matrix(PyObject *self, PyObject *args)
 {
-    Py_buffer b[2] = {{0}};
-    const Py_ssize_t w[2] = {9, 6};
-    int i, j, k, proper, tr;
-    double eps, tol;
+    Py_buffer b[3] = {{0}};
+    const Py_ssize_t w[3] = {9, 3, 1};
+    PyObject *dist_obj;
+    int i, j, k, proper, intrinsic, tr;
+    double eps, tol, scale;
     Py_ssize_t n, bad;
     PyObject *res = NULL;
-    if (!PyArg_ParseTuple(args, "y*w*(iii)pdpd", &b[0], &b[1], &i, &j, &k, &proper, &eps, &tr, &tol))
+    if (!PyArg_ParseTuple(args, "y*w*O(iii)pdppdd", &b[0], &b[1], &dist_obj, &i, &j, &k, &proper, &eps, &intrinsic,
+                          &tr, &tol, &scale))
         return NULL;
-    if (rows_all(b, w, 2, &n) == 0 && axes_ok(i, j, k)) {
+    int with_dist = dist_obj != Py_None;
+    if (with_dist && PyObject_GetBuffer(dist_obj, &b[2], PyBUF_WRITABLE | PyBUF_C_CONTIGUOUS | PyBUF_FORMAT) < 0)
+        goto done;
+    if (rows_all(b, w, with_dist ? 3 : 2, &n) == 0 && axes_ok(i, j, k)) {
         Py_BEGIN_ALLOW_THREADS
-        bad = euler_arguments_loop(b[0].buf, b[1].buf, n, i, j, k, proper, eps, tr, tol);
+        bad = euler_of_matrix_loop(b[0].buf, b[1].buf, with_dist ? b[2].buf : NULL, n, i, j, k, proper, eps,
+                                   intrinsic, tr, tol, scale);
         Py_END_ALLOW_THREADS
         res = PyLong_FromSsize_t(bad);
     }
-    release(b, 2);
-    return res;
-}
-
-static PyObject *
-py_euler_finish(PyObject *self, PyObject *args)
-{
-    Py_buffer b[4] = {{0}};
-    const Py_ssize_t w[4] = {6, 3, 3, 1};
-    int intrinsic, proper;
-    double eps, scale;
-    Py_ssize_t n;
-    PyObject *res = NULL;
-    if (!PyArg_ParseTuple(args, "y*y*w*w*ppdd", &b[0], &b[1], &b[2], &b[3], &intrinsic, &proper, &eps, &scale))
-        return NULL;
-    if (rows_all(b, w, 4, &n) == 0) {
-        Py_BEGIN_ALLOW_THREADS
-        euler_finish_loop(b[0].buf, b[1].buf, b[2].buf, b[3].buf, n, intrinsic, proper, eps, scale);
-        Py_END_ALLOW_THREADS
-        res = Py_NewRef(Py_None);
-    }
-    release(b, 4);
+done:
+    release(b, 3);
     return res;
 }
 
@@ -665,10 +660,9 @@ static PyMethodDef methods[] = {
      "matrix_quaternion(m, out, transpose, scalar_last, tol) -> rows that are not rotations"},
     {"euler_matrix", py_euler_matrix, METH_VARARGS,
      "euler_matrix(angles_in_radians, out, (a0, a1, a2), intrinsic, transpose)"},
-    {"euler_arguments", py_euler_arguments, METH_VARARGS,
-     "euler_arguments(m, out6, (i, j, k), proper, eps, transpose, tol) -> rows that are not rotations"},
-    {"euler_finish", py_euler_finish, METH_VARARGS,
-     "euler_finish(args6, atans3, out, distance, intrinsic, proper, eps, scale)"},
+    {"euler_of_matrix", py_euler_of_matrix, METH_VARARGS,
+     "euler_of_matrix(m, out, distance_or_None, (i, j, k), proper, eps, intrinsic, transpose, tol, scale)"
+     " -> rows that are not rotations"},
     {"compose", py_compose, METH_VARARGS, "compose(a, b, out, tol) -> rows of a or b that are not rotations"},
     {"turn", py_turn, METH_VARARGS, "turn(m, v, out, tol) -> rows of m that are not rotations"},
     {NULL, NULL, 0, NULL},

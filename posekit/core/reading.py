@@ -253,10 +253,12 @@ def _write_compiled(loops, m, kind: str, conv: Convention, scale: float, check: 
         shape = m.shape[:-2] + (4,)
     else:
         if conv.wrap == "positive":  # wrap in radians, then scale
-            out, _, bad = rot.euler_of_matrix_rows(flat, conv.axes_letters, conv.intrinsic, flip, tol)
+            out, _, bad = rot.euler_of_matrix_rows(flat, conv.axes_letters, conv.intrinsic, flip, tol,
+                                                   distance=False)
             out = _wrap_out(out, conv, (0, 2)) / scale
         else:  # the loop scales as it writes
-            out, _, bad = rot.euler_of_matrix_rows(flat, conv.axes_letters, conv.intrinsic, flip, tol, 1.0 / scale)
+            out, _, bad = rot.euler_of_matrix_rows(flat, conv.axes_letters, conv.intrinsic, flip, tol, 1.0 / scale,
+                                                   distance=False)
         shape = m.shape[:-2] + (3,)
     if bad and check:
         checked_matrix(m)  # raises the typed error with its message

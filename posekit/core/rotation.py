@@ -430,33 +430,20 @@ def euler_of_matrix(m, sequence: str, intrinsic: bool):
 
 
 def euler_of_matrix_rows(flat, sequence: str, intrinsic: bool, transpose: bool = False,
-                         tolerance: float = NO_CHECK, scale: float = 1.0):
+                         tolerance: float = NO_CHECK, scale: float = 1.0, distance: bool = True):
     """Compiled route of :func:`euler_of_matrix` for ``(n, 9)`` rows (``transpose`` reads each
     matrix transposed), with the matrix check fused in.
 
-    Returns ``(angles (n, 3) times scale, pole distance (n), rows that failed the check)``.
-    Blocks of :data:`BLOCK` rows keep the intermediate arguments in the CPU cache; numpy's
-    vectorised arctan2 runs between the two compiled loops."""
+    Returns ``(angles (n, 3) times scale, pole distance (n) or None, rows that failed the check)``.
+    """
     loops = compiled._loops
     i, j, k, proper, eps = _method_axes(sequence, intrinsic)
     n = flat.shape[0]
-    angles, dist = np.empty((n, 3)), np.empty(n)
-
-    def part(begin, end):
-        bad = 0
-        args, atans = np.empty(6 * min(end - begin, BLOCK)), np.empty(3 * min(end - begin, BLOCK))
-        for start in range(begin, end, BLOCK):
-            stop = min(start + BLOCK, end)
-            rows = stop - start
-            a, t = args[: 6 * rows].reshape(6, rows), atans[: 3 * rows].reshape(3, rows)
-            bad += loops.euler_arguments(flat[start:stop], a, (i, j, k), proper, eps, transpose, tolerance)
-            np.arctan2(a[1], a[0], out=t[0])  # tp
-            np.arctan2(a[3], a[2], out=t[1])  # tm
-            np.arctan2(a[5], a[4], out=t[2])  # half the middle angle
-            loops.euler_finish(a, t, angles[start:stop], dist[start:stop], intrinsic, proper, eps, scale)
-        return bad
-
-    return angles, dist, sum(compiled.in_parts(n, part))
+    angles, dist = np.empty((n, 3)), (np.empty(n) if distance else None)
+    bad = compiled.in_parts(n, lambda a, b: loops.euler_of_matrix(
+        flat[a:b], angles[a:b], None if dist is None else dist[a:b], (i, j, k), proper, eps, intrinsic, transpose,
+        tolerance, scale))
+    return angles, dist, sum(bad)
 
 
 def _wrap_near(a):
