@@ -611,11 +611,14 @@ done:
     return res;
 }
 
+/* compose and turn: two inputs, one output, a tolerance; rows failing the check counted */
+typedef Py_ssize_t (*pair_loop)(const double *restrict, const double *restrict, double *restrict, Py_ssize_t,
+                                double);
+
 static PyObject *
-py_compose(PyObject *self, PyObject *args)
+pair_entry(PyObject *args, const Py_ssize_t *w, pair_loop loop)
 {
     Py_buffer b[3] = {{0}};
-    const Py_ssize_t w[3] = {9, 9, 9};
     double tol;
     Py_ssize_t n, bad;
     PyObject *res = NULL;
@@ -623,7 +626,7 @@ py_compose(PyObject *self, PyObject *args)
         return NULL;
     if (rows_all(b, w, 3, &n) == 0) {
         Py_BEGIN_ALLOW_THREADS
-        bad = compose_loop(b[0].buf, b[1].buf, b[2].buf, n, tol);
+        bad = loop(b[0].buf, b[1].buf, b[2].buf, n, tol);
         Py_END_ALLOW_THREADS
         res = PyLong_FromSsize_t(bad);
     }
@@ -632,23 +635,17 @@ py_compose(PyObject *self, PyObject *args)
 }
 
 static PyObject *
+py_compose(PyObject *self, PyObject *args)
+{
+    static const Py_ssize_t w[3] = {9, 9, 9};
+    return pair_entry(args, w, compose_loop);
+}
+
+static PyObject *
 py_turn(PyObject *self, PyObject *args)
 {
-    Py_buffer b[3] = {{0}};
-    const Py_ssize_t w[3] = {9, 3, 3};
-    double tol;
-    Py_ssize_t n, bad;
-    PyObject *res = NULL;
-    if (!PyArg_ParseTuple(args, "y*y*w*d", &b[0], &b[1], &b[2], &tol))
-        return NULL;
-    if (rows_all(b, w, 3, &n) == 0) {
-        Py_BEGIN_ALLOW_THREADS
-        bad = turn_loop(b[0].buf, b[1].buf, b[2].buf, n, tol);
-        Py_END_ALLOW_THREADS
-        res = PyLong_FromSsize_t(bad);
-    }
-    release(b, 3);
-    return res;
+    static const Py_ssize_t w[3] = {9, 3, 3};
+    return pair_entry(args, w, turn_loop);
 }
 
 static PyMethodDef methods[] = {
