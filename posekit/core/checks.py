@@ -172,7 +172,7 @@ def checked_matrix(value, name: str = "rotation matrix", tolerance: float = ORTH
     loops = compiled.loops_for(m.size // 9) if size == 3 else None
     if loops is not None:  # one compiled pass; NaN and infinity fail it too
         flat = np.ascontiguousarray(m).reshape(-1, 9)
-        if sum(compiled.in_parts(len(flat), lambda a, b: loops.check(flat[a:b], tolerance))) == 0:
+        if sum(compiled.over_rows(loops.check, (flat,), tolerance)) == 0:
             return m
         # a row failed: the numpy checks below find it and raise with the full message
     require_finite(m, name)

@@ -77,6 +77,12 @@ if hasattr(os, "register_at_fork"):
     os.register_at_fork(after_in_child=_forget_pool_in_child)
 
 
+def over_rows(loop, arrays, *args) -> list:
+    """``loop(*row_slices, *args)`` over parts of the rows of ``arrays`` (inputs and outputs,
+    all with the same rows; None passes through), as :func:`in_parts` splits them."""
+    return in_parts(len(arrays[0]), lambda a, b: loop(*(None if x is None else x[a:b] for x in arrays), *args))
+
+
 def in_parts(rows: int, work) -> list:
     """Run ``work(start, stop)`` over contiguous parts of ``range(rows)``, in parallel for
     large batches; returns the parts' results in order."""

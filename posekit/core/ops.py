@@ -27,23 +27,23 @@ def compose(*rotations) -> np.ndarray:
     """
     if not rotations:
         raise TypeError("compose() needs at least one rotation")
-    # finiteness is checked by the compiled loop's check, or by checked_matrix below
-    out = checked_matrix(rotations[0]) if len(rotations) == 1 else as_numbers(rotations[0], "rotation matrix", (3, 3),
-                                                                               finite=False)
+    # each factor is checked once: by a compiled loop's fused check, or by checked_matrix
+    out = as_numbers(rotations[0], "rotation matrix", (3, 3), finite=False)
+    checked = False
     for r in rotations[1:]:
         r = as_numbers(r, "rotation matrix", (3, 3), finite=False)
         loops = compiled.loops_for(r.size // 9) if r.shape == out.shape else None
         if loops is None:
-            out = checked_matrix(out) @ checked_matrix(r)
+            out = (out if checked else checked_matrix(out)) @ checked_matrix(r)
+            checked = True
             continue
         # one compiled pass checks both factors (as checked_matrix does) and multiplies them
         a, b = np.ascontiguousarray(out).reshape(-1, 9), np.ascontiguousarray(r).reshape(-1, 9)
         product = np.empty_like(a)
-        if sum(compiled.in_parts(len(a), lambda i, j: loops.compose(a[i:j], b[i:j], product[i:j],
-                                                                    ORTHONORMAL_TOLERANCE))):
+        if sum(compiled.over_rows(loops.compose, (a, b, product), ORTHONORMAL_TOLERANCE)):
             checked_matrix(out), checked_matrix(r)  # raises the typed error with its message
-        out = product.reshape(r.shape)
-    return out
+        out, checked = product.reshape(r.shape), True
+    return out if checked else checked_matrix(out)
 
 
 def invert(rotation) -> np.ndarray:
@@ -68,8 +68,7 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
     loops = compiled.loops_for(flat_r.shape[0])
     if loops is not None:
         out = np.empty_like(flat_v)
-        if sum(compiled.in_parts(len(out), lambda a, b: loops.turn(flat_r[a:b], flat_v[a:b], out[a:b],
-                                                                   ORTHONORMAL_TOLERANCE))):
+        if sum(compiled.over_rows(loops.turn, (flat_r, flat_v, out), ORTHONORMAL_TOLERANCE)):
             checked_matrix(r)  # raises the typed error with its message
         return out.reshape(lead + (3,))
     require_finite(r, "rotation matrix")

@@ -35,8 +35,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import compiled, rotation as rot
-from .checks import (ORTHONORMAL_TOLERANCE, UNIT_TOLERANCE, as_numbers, checked_matrix, checked_quaternion,
-                     require_finite)
+from .checks import ORTHONORMAL_TOLERANCE, UNIT_TOLERANCE, as_numbers, checked_matrix, checked_quaternion
 from .convention import DEFAULT, Convention
 from .errors import NotUnitQuaternionError, PoseInputError, WrongShapeError, ZeroQuaternionError
 
@@ -155,8 +154,7 @@ def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: 
             out = np.empty((flat.shape[0], 9))
             last, conj = conv.scalar == "last", _flip_count(conv, True, kind) % 2 == 1
             unit_tol = ANY_LENGTH if normalise else tol  # finite, so NaN and infinity still fail
-            counts = compiled.in_parts(len(flat), lambda a, b: loops.quaternion_matrix(flat[a:b], out[a:b], last,
-                                                                                       conj, unit_tol))
+            counts = compiled.over_rows(loops.quaternion_matrix, (flat, out), last, conj, unit_tol)
             if any(off or zero for off, zero in counts):  # raises the typed error with its message
                 checked_quaternion(q, "quaternion", tolerance=tol, normalise=normalise)
             return out.reshape(q.shape[:-1] + (3, 3))
@@ -195,8 +193,7 @@ def write_rotation(matrix, kind: str = "quaternion", convention=None, *, flat: b
         loops = compiled.loops_for(m.size // 9)
         if loops is not None:  # the loop's check also fails NaN and infinity
             return _write_compiled(loops, m, kind, conv, scale, check)
-        if check:
-            require_finite(m, "rotation matrix")
+        matrix = m
     m = checked_matrix(matrix) if check else np.asarray(matrix, dtype=np.float64)
     if kind == "matrix":
         if conv.direction == "child-from-parent":
@@ -248,8 +245,7 @@ def _write_compiled(loops, m, kind: str, conv: Convention, scale: float, check: 
     if kind == "quaternion":
         out = np.empty((flat.shape[0], 4))
         last = conv.scalar == "last"
-        bad = sum(compiled.in_parts(len(flat), lambda a, b: loops.matrix_quaternion(flat[a:b], out[a:b], flip,
-                                                                                    last, tol)))
+        bad = sum(compiled.over_rows(loops.matrix_quaternion, (flat, out), flip, last, tol))
         shape = m.shape[:-2] + (4,)
     else:
         if conv.wrap == "positive":  # wrap in radians, then scale

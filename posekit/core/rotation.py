@@ -188,8 +188,7 @@ def matrix_of_quaternion(q):
     loops = compiled.loops_for(flat.shape[0])
     if loops is not None:
         out = np.empty((flat.shape[0], 9))
-        compiled.in_parts(len(flat), lambda a, b: loops.quaternion_matrix(flat[a:b], out[a:b], False, False,
-                                                                           NO_CHECK))
+        compiled.over_rows(loops.quaternion_matrix, (flat, out), False, False, NO_CHECK)
     else:
         out = _blocked(lambda o, f: _write_matrix_of_parts(o, f[:, 0], f[:, 1], f[:, 2], f[:, 3], True), 9, flat)
     return out.reshape(lead + (3, 3))
@@ -206,8 +205,7 @@ def quaternion_of_matrix(m):
     loops = compiled.loops_for(flat.shape[0])
     if loops is not None:
         out = np.empty((flat.shape[0], 4))
-        compiled.in_parts(len(flat), lambda a, b: loops.matrix_quaternion(flat[a:b], out[a:b], False, False,
-                                                                           NO_CHECK))
+        compiled.over_rows(loops.matrix_quaternion, (flat, out), False, False, NO_CHECK)
         return out.reshape(lead + (4,))
     return _blocked(_quaternion_of_matrix_block, 4, flat).reshape(lead + (4,))
 
@@ -336,9 +334,7 @@ def matrix_of_euler(angles, sequence: str, intrinsic: bool, transpose: bool = Fa
     loops = compiled.loops_for(flat.shape[0])
     if loops is not None:
         out = np.empty((flat.shape[0], 9))
-        axes = _axes(sequence)
-        compiled.in_parts(len(flat), lambda a, b: loops.euler_matrix(flat[a:b], out[a:b], axes, intrinsic,
-                                                                     transpose))
+        compiled.over_rows(loops.euler_matrix, (flat, out), _axes(sequence), intrinsic, transpose)
         return out.reshape(lead + (3, 3))
 
     def block(out, a):
@@ -440,9 +436,8 @@ def euler_of_matrix_rows(flat, sequence: str, intrinsic: bool, transpose: bool =
     i, j, k, proper, eps = _method_axes(sequence, intrinsic)
     n = flat.shape[0]
     angles, dist = np.empty((n, 3)), (np.empty(n) if distance else None)
-    bad = compiled.in_parts(n, lambda a, b: loops.euler_of_matrix(
-        flat[a:b], angles[a:b], None if dist is None else dist[a:b], (i, j, k), proper, eps, intrinsic, transpose,
-        tolerance, scale))
+    bad = compiled.over_rows(loops.euler_of_matrix, (flat, angles, dist), (i, j, k), proper, eps, intrinsic,
+                             transpose, tolerance, scale)
     return angles, dist, sum(bad)
 
 
