@@ -1,0 +1,334 @@
+"""One scorer for N >= 1 pose pairs: every slip scored at once, the best ones ranked and grouped.
+
+Hypotheses: every candidate true reading of the numbers (:func:`readings_of`) x
+relation (as stated; the rotation transposed -- the ``action`` field for angles and
+quaternions, the block alone for matrices; the ``direction`` field flipped) x parent
+remap x child remap (48 x 48 with reflections) x length scale x translation frame x
+each reading of the expected side.  Scoring is vectorised over hypotheses x pairs:
+
+* rotation: ``sum_i |B_i - P R_i Q|_F^2 = sum |B|^2 + 3N - 2 <P R_i Q, B_i>``, the inner
+  products of every (P, Q) from one 9x9 cross-covariance per (reading, relation); the
+  chordal distance ``|A - B|_F^2 = 8 sin^2(theta/2)`` stands in for ``2 theta^2`` while
+  picking the short list, which is then re-scored with the exact geodesic angle
+  (atan2 form, common practice);
+* translation: ``sum_i |s t_i - P v_i|^2`` in closed form from 3x3 sums;
+* cost ``= sum 0.5 (theta_i / sigma_r)^2 + sum 0.5 (|dt_i| / sigma_t)^2 + PRIOR_WEIGHT * deviations``.
+
+Given (reading, relation, parent remap) the rotation part depends on the child remap
+only and the translation part on scale and frame only, so the exact best ``keep``
+hypotheses are found without forming the full grid (:func:`_best_separable`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..core import rotation as rot
+from .readings import Reading, read_numbers, write_numbers
+from .slips import LENGTH_SCALES, PRIOR_WEIGHT, REMAPS, STATED_COST, TRANSLATION_FRAMES, Slip, remap_cost
+
+__all__ = ["Candidate", "ExpectedSide", "Hypothesis", "Group", "Ranking", "score", "angles_between",
+           "EQUIVALENT"]
+
+#: Residuals this close (radians, metres) count as exactly equal.
+EQUIVALENT = 1e-9
+
+
+@dataclass(frozen=True, eq=False)
+class Candidate:
+    """A true reading to try and the numbers ``(N, n)`` in its slot order (named input reorders them)."""
+
+    reading: Reading
+    numbers: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class ExpectedSide:
+    """One reading of the expected side: ``rotation (N, 3, 3)``, ``translation (N, 3)`` or None,
+    the deviations charged for taking it (0 for the plausible reading) and its words."""
+
+    rotation: np.ndarray
+    translation: np.ndarray | None
+    deviations: float
+    words: str
+
+
+@dataclass(frozen=True, eq=False)
+class Hypothesis:
+    """One scored slip: per-pair residuals, the decoded (corrected) pose, and its cost."""
+
+    slip: Slip
+    expected: int
+    rotation_residuals: np.ndarray
+    translation_residuals: np.ndarray | None
+    rotation: np.ndarray
+    translation: np.ndarray | None
+    cost: float
+    deviations: float
+
+    @property
+    def rotation_rms(self) -> float:
+        return float(np.sqrt(np.mean(self.rotation_residuals ** 2)))
+
+    @property
+    def translation_rms(self) -> float | None:
+        tr = self.translation_residuals
+        return None if tr is None else float(np.sqrt(np.mean(tr ** 2)))
+
+
+@dataclass(frozen=True, eq=False)
+class Group:
+    """Hypotheses whose residuals agree on every pair: ``lead`` speaks for them.
+
+    ``same``: slips that give the lead's pose for *every* input (the same mistake
+    written two ways); ``separable``: ``(hypothesis, numbers)`` pairs that agree on
+    this sample only, with stated-reading numbers of a pose on which they differ (None
+    when the slips read differently ordered numbers, so no common probe exists).
+    """
+
+    lead: Hypothesis
+    same: tuple[Hypothesis, ...]
+    separable: tuple[tuple[Hypothesis, np.ndarray], ...]
+
+
+@dataclass(frozen=True, eq=False)
+class Ranking:
+    groups: tuple[Group, ...]
+    hypotheses_scored: int
+    stated: Reading
+    pairs: int
+    compared_translation: bool
+
+
+def angles_between(a, b) -> np.ndarray:
+    """Geodesic angle between orthogonal ``(..., 3, 3)`` matrices (either may be improper).
+
+    Proper relative matrix: atan2 form through the quaternion, accurate near 0 and pi
+    (common practice).  Improper (a mirror is no rotation): the trace formula, >= 90 degrees.
+    """
+    rel = np.swapaxes(np.asarray(a), -1, -2) @ np.asarray(b)
+    det = np.linalg.det(rel)
+    proper = det > 0
+    out = np.empty(rel.shape[:-2])
+    if np.any(proper):
+        q = rot.quaternion_of_matrix(rel[proper])
+        out[proper] = 2.0 * np.arctan2(np.sqrt(np.sum(q[..., 1:] ** 2, axis=-1)), np.abs(q[..., 0]))
+    if np.any(~proper):
+        tr = np.trace(rel[~proper], axis1=-2, axis2=-1)
+        out[~proper] = np.arccos(np.clip((tr - 1) / 2, -1, 1))
+    return out
+
+
+def _flip(value: str, choices: tuple[str, str]) -> str:
+    return choices[1] if value == choices[0] else choices[0]
+
+
+def _relations(stated: Reading):
+    """The three relations as (action, direction, transposed, deviations) relative to the stated reading."""
+    c = stated.convention
+    flip_dir = _flip(c.direction, ("parent-from-child", "child-from-parent"))
+    dev_dir = STATED_COST if "direction" in stated.stated else 1.0
+    if stated.parameterised:
+        flip_act = _flip(c.action, ("active", "passive"))
+        dev_act = STATED_COST if "action" in stated.stated else 1.0
+        return [(c.action, c.direction, False, 0.0), (flip_act, c.direction, False, dev_act),
+                (c.action, flip_dir, False, dev_dir)]
+    return [(c.action, c.direction, False, 0.0), (c.action, c.direction, True, 1.0),
+            (c.action, flip_dir, False, dev_dir)]
+
+
+def _best_separable(a_rot: np.ndarray, b_full: np.ndarray | None, top_n: int):
+    """Exact ``top_n`` of ``A[c, p, q] + B[c, s, f, p]`` (``c`` a flattened leading index).
+
+    Given ``(c, p)`` the parts are independent, so a cell's best is ``min_q A + min_{s,f} B``;
+    the ``top_n``-th smallest cell best bounds the ``top_n``-th hypothesis, so only cells
+    at or below it are expanded.  Rows are ``(c, s, f, p, q)``.
+    """
+    c_n, p_n, q_n = a_rot.shape
+    if b_full is None:
+        b_full = np.zeros((c_n, 1, 1, p_n))
+    _, s_n, f_n, _ = b_full.shape
+    b_cells = np.transpose(b_full, (0, 3, 1, 2)).reshape(c_n, p_n, s_n * f_n)
+    lower = a_rot.min(axis=-1) + b_cells.min(axis=-1)                     # (C, P)
+    flat_lb = lower.reshape(-1)
+    finite = np.isfinite(flat_lb)
+    if not np.any(finite):
+        return np.zeros((0, 5), dtype=int), np.zeros(0)
+    n = min(top_n, int(finite.sum()))
+    bound = np.partition(np.where(finite, flat_lb, np.inf), n - 1)[n - 1]
+    cells = np.flatnonzero(flat_lb <= bound)
+    cc, pp = np.unravel_index(cells, lower.shape)
+    sub = b_cells[cc, pp][:, :, None] + a_rot[cc, pp][:, None, :]        # (cells, S*F, Q)
+    flat = sub.reshape(-1)
+    m = min(top_n, int(np.isfinite(flat).sum()))
+    idx = np.argpartition(flat, m - 1)[:m]
+    idx = idx[np.argsort(flat[idx], kind="stable")]
+    cell, sf, q = np.unravel_index(idx, sub.shape)
+    s_i, f_i = np.divmod(sf, f_n)
+    return np.stack([cc[cell], s_i, f_i, pp[cell], q], axis=1), flat[idx]
+
+
+def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedSide], *,
+          rotation_tolerance: float, translation_tolerance: float, reflections: bool = True,
+          keep: int = 64, limit: int = 5) -> Ranking:
+    """Score every slip of ``candidates`` against every reading of the expected side; rank and group.
+
+    ``candidates[i].numbers`` and every expected side hold the same N pairs.  Returns the
+    best ``limit`` groups (see :class:`Group`).
+    """
+    remaps = np.asarray(REMAPS if reflections else REMAPS[:24])
+    n_remap = len(remaps)
+    rc = remap_cost(np.arange(n_remap))
+    rels = _relations(stated)
+    n_pairs = candidates[0].numbers.shape[0]
+    raws = [read_numbers(c.reading, c.numbers, action="active", direction="parent-from-child") for c in candidates]
+    has_t_obs = raws[0][1] is not None
+    compare_t = has_t_obs and all(e.translation is not None for e in expected)
+    k_n = len(candidates)
+    # rotation and translation of every (reading, relation) as the scorer compares them
+    b_rot = np.empty((k_n, 3, n_pairs, 3, 3))
+    t_rel = np.empty((k_n, 3, n_pairs, 3)) if has_t_obs else None
+    dev_k = np.empty(k_n)
+    sign_k = np.empty(k_n)
+    for k, (cand, (m, t)) in enumerate(zip(candidates, raws)):
+        for x, (action, direction, transposed, _) in enumerate(rels):
+            a = np.swapaxes(m, -1, -2) if (action == "passive" and cand.reading.parameterised) or transposed else m
+            if direction == "child-from-parent":
+                b_rot[k, x] = np.swapaxes(a, -1, -2)
+                if has_t_obs:
+                    t_rel[k, x] = -np.einsum("nba,nb->na", a, t)
+            else:
+                b_rot[k, x] = a
+                if has_t_obs:
+                    t_rel[k, x] = t
+        dev_k[k] = Slip(stated, cand.reading).deviations()
+        sign_k[k] = 1.0 if np.sum(np.sign(np.linalg.det(m))) >= 0 else -1.0
+    dev_x = np.array([r[3] for r in rels])
+    b9 = b_rot.reshape(k_n, 3, n_pairs, 9)
+    bb = np.sum(b9 * b9, axis=(2, 3))                                   # (K, 3)
+    # only hypotheses that decode to a proper rotation: det(P) det(Q) det(B) = +1
+    det_r = np.round(np.linalg.det(remaps))
+    proper_mask = (sign_k[:, None, None] * det_r[None, :, None] * det_r[None, None, :]) > 0   # (K, P, Q)
+    s_n = len(LENGTH_SCALES) if compare_t else 1
+    f_n = len(TRANSLATION_FRAMES) if compare_t else 1
+    dev_s = np.array([0.0, 1.0, 1.0])[:s_n]
+    dev_f = np.array([0.0, 1.0, 1.0])[:f_n]
+    sc = np.array(LENGTH_SCALES)[:s_n]
+
+    rows_all, cost_all, e_all = [], [], []
+    for e_i, exp in enumerate(expected):
+        r9 = exp.rotation.reshape(n_pairs, 9)
+        w = np.einsum("nj,kxnl->kxjl", r9, b9, optimize=True).reshape(k_n, 3, 3, 3, 3, 3)
+        z = np.einsum("pab,kxbcad->kxpcd", remaps, w, optimize=True)
+        g = np.einsum("qcd,kxpcd->kxpq", remaps, z, optimize=True)       # (K, 3, P, Q)
+        chord2 = np.maximum(bb[:, :, None, None] + 3.0 * n_pairs - 2.0 * g, 0.0)
+        a_rot = (0.25 * chord2 / rotation_tolerance ** 2
+                 + PRIOR_WEIGHT * (dev_k[:, None, None, None] + dev_x[None, :, None, None] + rc[None, None, :, None]
+                                   + rc[None, None, None, :] + exp.deviations))
+        a_rot = np.where(proper_mask[:, None], a_rot, np.inf).reshape(k_n * 3, n_remap, n_remap)
+        b_full = None
+        if compare_t:
+            r_e, t_e = exp.rotation, exp.translation
+            local = np.einsum("nba,nb->na", r_e, t_e)                         # R^T t
+            v = np.stack([t_e, local, -local])                                 # (F, N, 3)
+            cmat = np.einsum("kxna,fnb->kxfab", t_rel, v, optimize=True)
+            cross = np.einsum("pab,kxfab->kxfp", remaps, cmat, optimize=True)  # sum_i t_i . P v_i
+            tt = np.sum(t_rel * t_rel, axis=(2, 3))                            # (K, 3)
+            vv = np.sum(v * v, axis=(1, 2))                                    # (F,)
+            sse = (sc[None, None, :, None, None] ** 2 * tt[:, :, None, None, None]
+                   - 2.0 * sc[None, None, :, None, None] * cross[:, :, None]
+                   + vv[None, None, None, :, None])                            # (K, 3, S, F, P)
+            b_full = (0.5 * np.maximum(sse, 0.0) / translation_tolerance ** 2
+                      + PRIOR_WEIGHT * (dev_s[:, None, None] + dev_f[None, :, None])).reshape(
+                k_n * 3, s_n, f_n, n_remap)
+        rows, costs = _best_separable(a_rot, b_full, keep)
+        rows_all.append(rows)
+        cost_all.append(costs)
+        e_all.append(np.full(len(costs), e_i))
+    rows = np.concatenate(rows_all)
+    e_idx = np.concatenate(e_all)
+    order = np.argsort(np.concatenate(cost_all), kind="stable")[:keep]
+    n_scored = int(len(expected) * k_n * 3 * n_remap * n_remap * s_n * f_n)
+
+    hyps = []
+    for j in order:
+        c, s_i, f_i, p, q = (int(v) for v in rows[j])
+        k, x = divmod(c, 3)
+        action, direction, transposed, _ = rels[x]
+        cand = candidates[k]
+        true = cand.reading.with_fields(action=action, direction=direction)
+        slip = Slip(stated, true, transposed, p, q, float(LENGTH_SCALES[s_i]), TRANSLATION_FRAMES[f_i])
+        hyps.append(_exact(slip, cand.numbers, expected[int(e_idx[j])], int(e_idx[j]), compare_t,
+                           rotation_tolerance, translation_tolerance))
+    hyps.sort(key=lambda h: (h.cost, h.slip.order_key()))
+    groups = _group(hyps, stated, candidates, limit)
+    return Ranking(tuple(groups), n_scored, stated, n_pairs, compare_t)
+
+
+def _exact(slip: Slip, numbers, exp: ExpectedSide, e_i: int, compare_t: bool, sr: float, st: float) -> Hypothesis:
+    r, t = slip.decode(numbers)
+    rr = angles_between(exp.rotation, r)
+    tr = None
+    if compare_t:
+        tr = np.sqrt(np.sum((t - exp.translation) ** 2, axis=-1))
+    dev = slip.deviations() + exp.deviations
+    cost = float(np.sum(0.5 * (rr / sr) ** 2) + (0.0 if tr is None else np.sum(0.5 * (tr / st) ** 2))
+                 + PRIOR_WEIGHT * dev)
+    return Hypothesis(slip, e_i, rr, tr, r, t, cost, dev)
+
+
+def _same_residuals(a: Hypothesis, b: Hypothesis) -> bool:
+    if np.max(np.abs(a.rotation_residuals - b.rotation_residuals)) > EQUIVALENT:
+        return False
+    if a.translation_residuals is None or b.translation_residuals is None:
+        return a.translation_residuals is None and b.translation_residuals is None
+    return bool(np.max(np.abs(a.translation_residuals - b.translation_residuals)) <= EQUIVALENT)
+
+
+_PROBE_SEED = 20261204
+
+
+def _probe_numbers(stated: Reading) -> np.ndarray:
+    """Three fixed random poses written under the stated reading: the inputs that tell slips apart."""
+    rng = np.random.default_rng(_PROBE_SEED)
+    q = rng.normal(size=(3, 4))
+    q /= np.linalg.norm(q, axis=1, keepdims=True)
+    r = rot.matrix_of_quaternion(q)
+    t = rng.normal(size=(3, 3)) if stated.has_translation else None
+    return write_numbers(stated, r, t)
+
+
+def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate], limit: int) -> list[Group]:
+    raw_groups: list[list[Hypothesis]] = []
+    for h in hyps:
+        for g in raw_groups:
+            if g[0].expected == h.expected and _same_residuals(g[0], h):
+                g.append(h)
+                break
+        else:
+            raw_groups.append([h])
+    # named numbers are reordered per reading, so a random input cannot be pushed through every slip alike
+    probe_ok = all(np.array_equal(c.numbers, candidates[0].numbers) for c in candidates)
+    probe = _probe_numbers(stated) if probe_ok else None
+    out = []
+    for g in raw_groups[:limit]:
+        g = sorted(g, key=lambda h: (h.deviations, h.slip.order_key()))
+        lead = g[0]
+        same, separable = [], []
+        if probe is not None and len(g) > 1:
+            r0, t0 = lead.slip.decode(probe)
+            for h in g[1:]:
+                r1, t1 = h.slip.decode(probe)
+                diff = angles_between(r0, r1)
+                if t0 is not None and t1 is not None:
+                    diff = diff + np.linalg.norm(t0 - t1, axis=-1)
+                if np.max(diff) <= 1e-9:
+                    same.append(h)
+                else:
+                    separable.append((h, probe[int(np.argmax(diff))]))
+        else:
+            separable = [(h, None) for h in g[1:]]  # no probe: agreement beyond this sample is unknown
+        out.append(Group(lead, tuple(same), tuple(separable)))
+    return out
