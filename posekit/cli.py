@@ -51,7 +51,10 @@ def build_parser() -> argparse.ArgumentParser:
     d.add_argument("--assumed-kind", help="kind you read the observed numbers as (default: by count)")
     d.add_argument("--expected-file", help="batch: file with one expected pose per line")
     d.add_argument("--observed-file", help="batch: file with one observed pose per line")
-    d.add_argument("--reflections", action="store_true", help="also score the 24 remaps with a handedness flip")
+    d.add_argument("--reflections", action="store_true", default=True,
+                   help="score the 24 remaps with a handedness flip too (the default)")
+    d.add_argument("--no-reflections", dest="reflections", action="store_false",
+                   help="leave handedness flips out (faster; a reflected input then stays unexplained)")
     d.add_argument("--rotation-tolerance", type=float, default=0.5, help="rotation noise scale in degrees (0.5)")
     d.add_argument("--translation-tolerance", type=float, default=0.005, help="translation noise scale in metres")
     d.add_argument("--limit", type=int, default=5, help="how many explanations to show (5)")
@@ -125,14 +128,14 @@ def _diagnose(args) -> tuple[dict, str]:
                                    expected_convention=args.expected_convention, reflections=args.reflections,
                                    rotation_tolerance=tol_r, translation_tolerance=args.translation_tolerance,
                                    limit=args.limit)
-        return result.as_dict(), result.summary()
+        return result.as_dict(), result.summary(), result.explained
     expected = _text(args.expected, "--expected")
     observed = _text(args.observed, "--observed")
     result = diagnose(expected, observed, assumed=args.assumed, assumed_kind=args.assumed_kind,
                          expected_kind=args.expected_kind, expected_convention=args.expected_convention,
                          reflections=args.reflections, rotation_tolerance=tol_r,
                          translation_tolerance=args.translation_tolerance, limit=args.limit)
-    return result.as_dict(), result.summary(args.limit)
+    return result.as_dict(), result.summary(args.limit), result.explained
 
 
 def _kind_by_count(n: int) -> str:
@@ -212,14 +215,15 @@ def _has_module(name: str) -> bool:
 
 
 def main(argv=None) -> int:
-    """Run the command line; returns the exit status (0 ok, 2 bad input, 3 tour cannot start)."""
+    """Run the command line; returns the exit status (0 ok, 1 diagnose: no single slip explains the numbers
+    within the tolerances, 2 bad input, 3 tour cannot start)."""
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
         if args.verb == "tour":
             return _tour(args.print_command)
         handler = {"diagnose": _diagnose, "convert": _convert, "check": _check}[args.verb]
-        data, text = handler(args)
+        data, text, *found = handler(args)
     except PoseInputError as exc:
         print(f"posekit {args.verb}: error: {exc}", file=sys.stderr)
         return 2
@@ -230,7 +234,7 @@ def main(argv=None) -> int:
         # the reader (e.g. `| head`) closed the pipe early: not an error of ours, and no traceback
         devnull = os.open(os.devnull, os.O_WRONLY)
         os.dup2(devnull, sys.stdout.fileno())
-    return 0
+    return 0 if not found or found[0] else 1
 
 
 if __name__ == "__main__":  # pragma: no cover - exercised through subprocess in the tests

@@ -31,7 +31,7 @@ import numpy as np
 
 from ..core import rotation as rot
 from ..core.checks import ORTHONORMAL_TOLERANCE, as_numbers, checked_matrix, orthonormality_error
-from ..core.convention import Convention
+from ..core.convention import DEFAULT, Convention
 from ..core.errors import PoseInputError, WrongShapeError
 from ..core.reading import as_convention, read_rotation, write_rotation  # noqa: F401 (doctest)
 from ..core.transforms import Pose, read_transform
@@ -556,6 +556,19 @@ def _plain(nums):
     return [_plain(v) for v in nums] if isinstance(nums, tuple) else float(nums)
 
 
+def _member(slip) -> dict:
+    """One slip of a group as plain data: the reading's own fields (``reading``, only those off the
+    default), the relation, remaps, frame and scale, then everything :meth:`Slip.as_dict` says."""
+    own = slip.true.with_fields(action=slip.stated.convention.action, direction=slip.stated.convention.direction)
+    reading = " ".join(f"{k}={v}" for k, v in own.fields().items()
+                       if k not in ("action", "direction") and getattr(DEFAULT, k) != v)
+    return {"reading": reading, "kind": slip.true.kind, "position_first": slip.true.position_first,
+            "relation": _relation(slip), "parent_remap": REMAPS[slip.parent_remap].astype(int).tolist(),
+            "child_remap": REMAPS[slip.child_remap].astype(int).tolist(),
+            "translation_frame": slip.translation_frame, "length_scale": slip.length_scale,
+            "deviations": slip.deviations(), "slip": slip.as_dict()}
+
+
 def _relation(slip) -> str:
     changed = {f for f, _, _ in slip.field_changes()}
     if "direction" in changed:
@@ -576,7 +589,7 @@ def _corrected(h, stated: Reading):
     """Corrected numbers in the stated reading; off-orthonormal printed digits are projected (and said)."""
     r = h.rotation
     err = orthonormality_error(r)
-    project = bool(np.max(err) > ORTHONORMAL_TOLERANCE)
+    project = bool(np.max(err) > ORTHONORMAL_TOLERANCE or np.any(np.linalg.det(r) < 0))
     if project:
         u, _, vt = np.linalg.svd(r)
         d = np.sign(np.linalg.det(u @ vt))
@@ -621,7 +634,7 @@ def _explanations(ranking, stated: Reading, candidates, single: bool, tol_r: flo
             h.slip.length_scale, r[0] if single else r,
             None if h.translation is None else (h.translation[0] if single else h.translation),
             _rounded(nums[0] if single else nums), code, same, near, h.slip.improper,
-            tuple(o.slip.as_dict() for o in (h,) + g.same + tuple(x for x, _ in g.separable)), sep, h.slip,
+            tuple(_member(o.slip) for o in (h,) + g.same + tuple(x for x, _ in g.separable)), sep, h.slip,
             expected_words[h.expected]))
     if len(out) > 1 and out[1].near_tie:
         out[0] = replace(out[0], near_tie=True)
@@ -745,7 +758,7 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
     >>> d = diagnose([0.2, 0.1, -0.3], "-0.1534, 0.0343, 0.1060, 0.9819",
     ...              expected_kind="euler")   # yaw-pitch-roll radians; the quaternion logged scalar-last
     >>> d.best.sentence
-    'The quaternion was written scalar-last (x, y, z, w) but read scalar-first.'
+    'The quaternion was written scalar-last but read scalar-first.'
     """
     _check_tolerances(rotation_tolerance, translation_tolerance, limit)
     exp = expected_pose(expected, expected_kind, expected_convention)
@@ -916,7 +929,7 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
     >>> truth = E("z", np.linspace(0, 1, 5))                        # (5, 3, 3)
     >>> obs = write_rotation(truth, "quaternion", "scalar=last")     # (5, 4), logged scalar-last
     >>> diagnose_batch(truth, obs).best.sentence
-    'The quaternion was written scalar-last (x, y, z, w) but read scalar-first.'
+    'The quaternion was written scalar-last but read scalar-first.'
     """
     _check_tolerances(rotation_tolerance, translation_tolerance, limit)
     exp = _batch_expected(expected, expected_kind, expected_convention)

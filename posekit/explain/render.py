@@ -47,8 +47,7 @@ def slip_parts(slip: Slip) -> list[str]:
             out.append(f"the matrix was written {words[b]} ({b}) but read {words[a]}{_mark(fam, s)}")
         elif fam == "scalar":
             a, b = changes["scalar"]
-            order = {"first": "(w, x, y, z)", "last": "(x, y, z, w)"}
-            out.append(f"the quaternion was written scalar-{b} {order[b]} but read scalar-{a}{_mark(fam, s)}")
+            out.append(f"the quaternion was written scalar-{b} but read scalar-{a}{_mark(fam, s)}")
         elif fam == "algebra":
             a, b = changes["algebra"]
             nm = {"hamilton": "Hamilton (ij = k)", "jpl": "JPL (ij = -k)"}
@@ -94,7 +93,7 @@ def sentence(slip: Slip) -> str:
     """The slip as one sentence; the empty slip says the numbers follow the stated reading."""
     parts = slip_parts(slip)
     if not parts:
-        return "The numbers follow the stated reading: no convention error."
+        return "The numbers match the expected pose as read: no convention error found."
     text = parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + ", and " + parts[-1]
     return text[0].upper() + text[1:] + "."
 

@@ -211,6 +211,8 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     # only hypotheses that decode to a proper rotation: det(P) det(Q) det(B) = +1
     det_r = np.round(np.linalg.det(remaps))
     proper_mask = (sign_k[:, None, None] * det_r[None, :, None] * det_r[None, None, :]) > 0   # (K, P, Q)
+    if not proper_mask.any():  # reflections left out and the numbers are a reflection: score what there is
+        proper_mask[:] = True
     s_n = len(LENGTH_SCALES) if compare_t else 1
     f_n = len(TRANSLATION_FRAMES) if compare_t else 1
     dev_s = np.array([0.0, 1.0, 1.0])[:s_n]

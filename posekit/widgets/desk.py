@@ -395,12 +395,10 @@ class DebugDesk(w.VBox):
         d = self._diagnosis
         if d is None:
             return ["no diagnosis: the inputs could not be read"]
-        lines = []
+        lines = [d.verdict, f"observed: {d.assumed_reading}", d.expected_reading]
         if isinstance(d, BatchDiagnosis):
             lines.append(f"{d.pairs} pairs; " + ("one explanation fits every pair" if d.consistent
                                                  else "no single convention error fits every pair"))
-        else:
-            lines.append(f"the numbers were read as {d.assumed_reading}")
         for e in d.explanations:
             lines.append(f"{e.rank}. {e.sentence} ({_residual_words(e, isinstance(d, BatchDiagnosis))})"
                          + _marks(e, isinstance(d, BatchDiagnosis)) + ("  <- chosen" if e is self.chosen_explanation()
@@ -513,8 +511,8 @@ class DebugDesk(w.VBox):
                                      "you got and the pose you expected can be read.</div>")
             self._show_figure(None)
             return
-        if isinstance(d, Diagnosis) and d.parsed is not None:
-            self._as_read = next((i for i in d.parsed.interpretations if i.describe() == d.assumed_reading), None)
+        if isinstance(d, Diagnosis):
+            self._as_read = d.as_read
         batch = isinstance(d, BatchDiagnosis)
         options = [(f"{e.rank}. {e.sentence}  — {_residual_words(e, batch)}{_marks(e, batch)}", k)
                    for k, e in enumerate(d.explanations)]
@@ -551,9 +549,9 @@ class DebugDesk(w.VBox):
             return out
         out.append(("expected", exp.rotation, np.zeros(3) if exp.translation is None else exp.translation))
         if isinstance(d, Diagnosis):
-            if self._as_read is not None:
-                tr = self._as_read.translation
-                out.append(("observed as read", self._as_read.rotation, np.zeros(3) if tr is None else tr))
+            if self._as_read is not None and np.linalg.det(self._as_read[0]) > 0:
+                r_read, tr = self._as_read
+                out.append(("observed as read", r_read, np.zeros(3) if tr is None else tr))
             e = self.chosen_explanation()
             if e is not None:
                 ct = e.corrected_translation
@@ -568,19 +566,32 @@ class DebugDesk(w.VBox):
         batch = isinstance(d, BatchDiagnosis)
         marks = ""
         if e.equivalents:
-            marks += (f"<span class='pk-mark'>{len(e.equivalents)} other explanation(s) give the same numbers"
-                      f"{' for these pairs' if batch else ' from this one sample'}</span>")
+            marks += (f"<span class='pk-mark'>the same mistake can be written {len(e.equivalents)} other "
+                      f"way{'s' if len(e.equivalents) > 1 else ''}</span>")
+        if e.separable:
+            marks += (f"<span class='pk-mark'>{len(e.separable)} other explanation"
+                      f"{'s fit' if len(e.separable) > 1 else ' fits'} these numbers equally: another sample "
+                      "would separate them</span>")
         if e.near_tie:
             marks += "<span class='pk-mark pk-mark-tie'>near tie: the prior, not the data, decided the order</span>"
-        parts = [f"<div class='pk-sentence'>{html.escape(e.sentence)}</div>",
+        verdict = "pk-ok" if d.explained else "pk-error"
+        parts = [f"<div class='{verdict}'>{html.escape(d.verdict)}</div>" if e.rank == 1 else "",
+                 f"<div class='pk-words'>observed {html.escape(d.assumed_reading)}</div>",
+                 f"<div class='pk-words'>{html.escape(d.expected_reading)}</div>",
+                 f"<div class='pk-sentence'>{html.escape(e.sentence)}</div>",
                  f"<div class='pk-words'>{html.escape(_residual_words(e, batch))}; {e.deviations:g} deviation(s) "
                  f"from your reading; cost {e.cost:.3g}</div>", f"<div>{marks}</div>" if marks else ""]
         if e.equivalents:
             shown = "".join(f"<li>{html.escape(s)}</li>" for s in e.equivalents[:3])
             more = f"<li>and {len(e.equivalents) - 3} more</li>" if len(e.equivalents) > 3 else ""
-            parts.append("<div class='pk-words'>cannot be told apart from"
-                         f"{' these pairs' if batch else ' this one sample'} (one more sample would):</div>"
-                         f"<ul class='pk-same'>{shown}{more}</ul>")
+            parts.append("<div class='pk-words'>the same mistake written another way (no sample can tell "
+                         f"them apart):</div><ul class='pk-same'>{shown}{more}</ul>")
+        if e.separable:
+            shown = "".join(f"<li>{html.escape(s)}" + ("" if n is None else " — told apart by the numbers "
+                                                          + html.escape(", ".join(f"{v:.6g}" for v in n)))
+                            + "</li>" for s, n in e.separable[:3])
+            parts.append("<div class='pk-words'>fit these numbers equally; another sample would separate them:"
+                         f"</div><ul class='pk-same'>{shown}</ul>")
         if batch:
             s = d.statistics
             parts.append(f"<div class='pk-words'>best explanation per pair: rotation median "
@@ -591,11 +602,11 @@ class DebugDesk(w.VBox):
             if d.offset is not None:
                 parts.append(f"<div class='pk-words'><b>Constant offset:</b> {html.escape(d.offset.sentence)}</div>")
         else:
-            parts.append(f"<div class='pk-words'><b>Corrected numbers</b>, in the reading you assumed "
-                         f"({html.escape(d.assumed_reading)}): <code class='posekit-desk-corrected'>"
+            parts.append(f"<div class='pk-words'><b>Corrected numbers</b>, in your stated reading "
+                         f"({html.escape(d.stated.text())}): <code class='posekit-desk-corrected'>"
                          + html.escape(", ".join(f"{v:.9g}" for v in e.corrected_numbers)) + "</code></div>")
-            if self._as_read is None:
-                parts.append("<div class='pk-words'>Your reading is not among the plausible ones for these numbers, "
+            if self._as_read is not None and np.linalg.det(self._as_read[0]) < 0:
+                parts.append("<div class='pk-words'>Read your way the numbers are a reflection, not a rotation, "
                              "so 'observed as read' is not drawn.</div>")
         self.detail.value = "".join(parts)
         if self.code_box.value != e.code:
