@@ -65,3 +65,44 @@ def test_the_ast_check_can_fail(tmp_path):
                    "    from scipy.spatial.transform import Rotation\n    from ..view import x\n")
     found = list(_imports(bad))
     assert ("scipy.spatial.transform", 0) in found and ("view", 2) in found
+
+
+# Every layer of the package and what it may import besides the standard library (DEVELOPERS.md
+# "Layers"): imports go one way only, down the list.
+LAYERS = {
+    "core": ({"numpy"}, set()),
+    "explain": ({"numpy"}, {"core"}),
+    "analysis": ({"numpy", "scipy"}, {"core", "explain"}),
+    "view": ({"numpy", "scipy", "plotly"}, {"core", "explain", "analysis"}),
+    "widgets": ({"numpy", "scipy", "plotly", "ipywidgets", "anywidget", "traitlets", "IPython"},
+                {"core", "explain", "analysis", "view"}),
+}
+
+
+def _layer_of(module: str) -> str | None:
+    parts = module.split(".")
+    return parts[1] if len(parts) > 1 and parts[0] == "posekit" and parts[1] in LAYERS else None
+
+
+@pytest.mark.parametrize("layer", sorted(LAYERS))
+def test_every_layer_imports_only_downwards(layer):
+    stdlib = set(sys.stdlib_module_names)
+    outside, below = LAYERS[layer]
+    files = sorted((ROOT / "posekit" / layer).glob("*.py"))
+    assert files, layer
+    for path in files:
+        for module, level in _imports(path):
+            if level == 1:
+                continue  # a sibling inside the same layer
+            if level == 2:  # from ..x import y: another part of posekit
+                if not module:
+                    continue  # from .. import __version__: the package root loads only posekit.core
+                target = module.split(".")[0]
+                assert target in below, f"{layer}/{path.name} imports posekit.{module}; {layer} may use {below}"
+                continue
+            top = module.split(".")[0]
+            if top == "posekit":
+                target = _layer_of(module)
+                assert target in below or target == layer, f"{layer}/{path.name} imports {module}"
+                continue
+            assert top in stdlib or top in outside, f"{layer}/{path.name} imports {module}; allowed: {outside}"

@@ -559,8 +559,7 @@ def _plain(nums):
 def _member(slip) -> dict:
     """One slip of a group as plain data: the reading's own fields (``reading``, only those off the
     default), the relation, remaps, frame and scale, then everything :meth:`Slip.as_dict` says."""
-    own = slip.true.with_fields(action=slip.stated.convention.action, direction=slip.stated.convention.direction)
-    reading = " ".join(f"{k}={v}" for k, v in own.fields().items()
+    reading = " ".join(f"{k}={v}" for k, v in slip.true.fields().items()
                        if k not in ("action", "direction") and getattr(DEFAULT, k) != v)
     return {"reading": reading, "kind": slip.true.kind, "position_first": slip.true.position_first,
             "relation": _relation(slip), "parent_remap": REMAPS[slip.parent_remap].astype(int).tolist(),

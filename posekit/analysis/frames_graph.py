@@ -11,10 +11,17 @@ reads the canonical parent-from-child transform from them with posekit's core.
   the result in words ("coordinates in camera -> coordinates in world").
 - :meth:`FrameGraph.check_loops` finds every loop (a pose known two ways, e.g. from a
   drawing and from a calibration), reports how far each fails to close (rotation angle
-  and translation distance), and searches every single-edge fix - flip the direction,
-  another quaternion order or algebra, passive instead of active, another Euler
-  sequence or axes, another angle unit, another flat layout, a transposed rotation
-  block, a translation in other length units - for the ones that close every loop.
+  and translation distance), and searches every single-edge fix for the ones that
+  close every loop.  The fixes are the explanation engine's slips
+  (:class:`posekit.explain.Slip`): the edge's numbers written under one reading and read
+  under the edge's stated one - the direction flipped, passive instead of active,
+  another quaternion order or algebra, another Euler sequence or axes, another angle
+  unit, another flat layout, a rotation block transposed on its own, a translation in
+  millimetres read as metres (or the other way).  The engine's prior
+  (:meth:`~posekit.explain.Slip.deviations`: contradicting a field the edge's convention
+  text stated costs more than a default nobody chose), its tie order
+  (:meth:`~posekit.explain.Slip.order_key`) and its words (:func:`posekit.explain.sentence`)
+  are used as they are; SE(2) edges are read by the engine as SE(3) numbers about z.
 - SE(3) graphs hold ``(4, 4)`` transforms, SE(2) graphs (``planar=True``) ``(3, 3)``.
 
 The graph and every result are immutable: ``with_edge``, ``flipped``,
@@ -44,12 +51,13 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from ..core.checks import as_numbers
-from ..core.convention import CHOICES, Convention
+from ..core.convention import CHOICES, DEFAULT, Convention
 from ..core.errors import PoseInputError, WrongShapeError, WrongTypeError
 from ..core.ops import angle_between
 from ..core.reading import as_convention, write_rotation
 from ..core.transforms import (TRANSFORM_KINDS, checked_transform, invert_transform, make_planar,
                                read_transform, write_transform)
+from ..explain import LENGTH_SCALES, Reading, Slip, readings_of, sentence, stated_fields, write_numbers
 
 __all__ = [
     "SPATIAL_KINDS", "PLANAR_KINDS", "CHANGES",
@@ -65,12 +73,20 @@ SPATIAL_KINDS = TRANSFORM_KINDS
 #: ``x, y, heading`` (heading in the convention's ``unit``).
 PLANAR_KINDS = ("matrix", "position-heading")
 
-#: Every kind of single-edge change the fix search tries, in the order ties are listed.
-CHANGES = ("direction", "scalar", "algebra", "action", "sequence", "unit", "layout",
-           "rotation-transpose", "length-scale")
+#: The names an :class:`EdgeFix`'s ``change`` can take: the first family of its slip
+#: (:meth:`posekit.explain.Slip.families`), in the engine's family order, with ``axes`` and
+#: ``sequence`` both called "sequence".  Ties between fixes are not broken by this tuple but
+#: by the engine's prior and tie order (:meth:`~posekit.explain.Slip.deviations`,
+#: :meth:`~posekit.explain.Slip.order_key`).
+CHANGES = ("direction", "action", "layout", "scalar", "algebra", "unit", "sequence", "rotation-transpose",
+           "length-scale")
 
-#: Length factors tried for a translation entered in other units (e.g. millimetres read as metres).
-LENGTH_FACTORS = (0.001, 0.01, 100.0, 1000.0)
+#: Family of a slip -> the fix's ``change`` name (families not listed keep their own name).
+_CHANGE_OF_FAMILY = {"axes": "sequence", "transposed": "rotation-transpose", "length_scale": "length-scale"}
+
+#: Length factors tried for a translation entered in other units: the engine's length
+#: scales (true metres per number read as metres), no scale left out.
+LENGTH_FACTORS = tuple(s for s in LENGTH_SCALES if s != 1.0)
 
 DEFAULT_ANGLE_TOLERANCE = float(np.radians(0.5))
 DEFAULT_DISTANCE_TOLERANCE = 0.01
@@ -212,9 +228,16 @@ class Edge:
     same pose can sit side by side.  ``transform`` is the canonical parent-from-child
     matrix, ``(4, 4)`` or ``(3, 3)`` when ``planar``, read by posekit's core.
 
-    >>> e = Edge("base", "imu", (0.1, 0, 0.2, 0, 0, 0), "position-euler")
-    >>> e.transform[:3, 3].tolist()
-    [0.1, 0.0, 0.2]
+    ``stated`` is the set of convention fields the edge's convention *stated*
+    (:func:`posekit.explain.stated_fields`): the keys written in the convention text, or,
+    for a :class:`~posekit.Convention` value, the fields off the default.  Left out
+    (None), it is worked out from ``convention``; the loop-fix search charges more for
+    contradicting a stated field than a default nobody chose.  It takes no part in
+    equality: two edges that read the same numbers the same way are equal.
+
+    >>> e = Edge("base", "imu", (0.1, 0, 0.2, 0, 0, 0), "position-euler", "unit=radians")
+    >>> e.transform[:3, 3].tolist(), sorted(e.stated)
+    ([0.1, 0.0, 0.2], ['unit'])
     """
 
     parent: str
@@ -224,6 +247,7 @@ class Edge:
     convention: Convention = field(default_factory=Convention)
     source: str = ""
     planar: bool = False
+    stated: frozenset | None = field(default=None, compare=False, hash=False, repr=False)
     transform: np.ndarray = field(init=False, compare=False, hash=False, repr=False)
 
     def __post_init__(self):
@@ -234,7 +258,17 @@ class Edge:
         if not isinstance(self.source, str):
             raise WrongTypeError(f"edge source: got {type(self.source).__name__} {self.source!r}; expected a "
                                  "string naming the measurement, e.g. 'drawing' or 'calibration'")
-        object.__setattr__(self, "convention", as_convention(self.convention))
+        raw = self.convention
+        conv = as_convention(raw)
+        if self.stated is None:
+            stated = stated_fields(raw if raw is None or isinstance(raw, (str, Convention)) else conv)
+        elif isinstance(self.stated, (set, frozenset, tuple, list)) and set(self.stated) <= set(CHOICES):
+            stated = frozenset(self.stated)
+        else:
+            raise WrongTypeError(f"edge {self.parent} - {self.child} stated: got {self.stated!r}; expected a set "
+                                 f"of convention field names ({', '.join(CHOICES)}) or None")
+        object.__setattr__(self, "convention", conv)
+        object.__setattr__(self, "stated", stated)
         kinds = PLANAR_KINDS if self.planar else SPATIAL_KINDS
         if self.kind not in kinds:
             space = "SE(2) (planar)" if self.planar else "SE(3)"
@@ -253,17 +287,30 @@ class Edge:
         object.__setattr__(self, "transform", _readonly(m))
 
     def changed(self, **settings) -> "Edge":
-        """A copy with other fields (``numbers``, ``kind``, ``convention``, ``source``...); re-read and re-checked."""
-        unknown = set(settings) - {"parent", "child", "numbers", "kind", "convention", "source"}
+        """A copy with other fields (``numbers``, ``kind``, ``convention``, ``source``...); re-read and re-checked.
+
+        A new ``convention`` brings its own stated fields unless ``stated`` is given too.
+        """
+        unknown = set(settings) - {"parent", "child", "numbers", "kind", "convention", "source", "stated"}
         if unknown:
             raise PoseInputError(f"Edge.changed: unknown field(s) {sorted(unknown)}; accepted: parent, child, "
-                                 "numbers, kind, convention, source")
+                                 "numbers, kind, convention, source, stated")
+        if "convention" in settings and "stated" not in settings:
+            settings["stated"] = None
         return replace(self, **settings)
 
     def flipped(self) -> "Edge":
-        """The same numbers read the other way round (``direction`` toggled): the inverse transform."""
+        """The same numbers read the other way round (``direction`` toggled, and now stated): the inverse."""
         other = "child-from-parent" if self.convention.direction == "parent-from-child" else "parent-from-child"
-        return replace(self, convention=self.convention.changed(direction=other))
+        return replace(self, convention=self.convention.changed(direction=other),
+                       stated=self.stated | {"direction"})
+
+    def convention_text(self) -> str | None:
+        """Convention text that re-enters this edge with the same stated fields (None: nothing to state)."""
+        conv = self.convention
+        words = [f"{k}={getattr(conv, k)}" for k in CHOICES
+                 if k in self.stated or getattr(conv, k) != getattr(DEFAULT, k)]
+        return " ".join(words) or None
 
     @property
     def entered_words(self) -> str:
@@ -281,17 +328,13 @@ class Edge:
         """A ``with_edge(...)`` call that re-enters this edge, as text."""
         src = f", source={self.source!r}" if self.source else ""
         nums = repr(np.asarray(self.numbers, dtype=float).tolist())
-        conv = convention_words(self.convention)
-        conv = None if conv == "defaults" else conv
-        return f".with_edge({self.parent!r}, {self.child!r}, {nums}, {self.kind!r}, {conv!r}{src})"
+        return f".with_edge({self.parent!r}, {self.child!r}, {nums}, {self.kind!r}, {self.convention_text()!r}{src})"
 
     def code(self) -> str:
         """An ``Edge(...)`` expression that rebuilds this edge, as text."""
         extra = (f", source={self.source!r}" if self.source else "") + (", planar=True" if self.planar else "")
         nums = repr(np.asarray(self.numbers, dtype=float).tolist())
-        conv = convention_words(self.convention)
-        conv = None if conv == "defaults" else conv
-        return f"Edge({self.parent!r}, {self.child!r}, {nums}, {self.kind!r}, {conv!r}{extra})"
+        return f"Edge({self.parent!r}, {self.child!r}, {nums}, {self.kind!r}, {self.convention_text()!r}{extra})"
 
 
 # --- result values -------------------------------------------------------------------
@@ -702,7 +745,7 @@ class FrameGraph:
     def with_convention(self, index: int, convention) -> "FrameGraph":
         """A new graph with edge ``index``'s same numbers read under another convention."""
         i = self._index(index)
-        return self.replaced(i, replace(self._edges[i], convention=as_convention(convention)))
+        return self.replaced(i, self._edges[i].changed(convention=convention))
 
     # --- traversal ---------------------------------------------------------------------
     def _known(self, frame) -> str:

@@ -22,6 +22,7 @@ hypotheses are found without forming the full grid (:func:`_best_separable`).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -194,7 +195,7 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     sign_k = np.empty(k_n)
     for k, (cand, (m, t)) in enumerate(zip(candidates, raws)):
         for x, (action, direction, transposed, _) in enumerate(rels):
-            a = np.swapaxes(m, -1, -2) if (action == "passive" and cand.reading.parameterised) or transposed else m
+            a = np.swapaxes(m, -1, -2) if action == "passive" and cand.reading.parameterised else m
             if direction == "child-from-parent":
                 b_rot[k, x] = np.swapaxes(a, -1, -2)
                 if has_t_obs:
@@ -203,6 +204,8 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
                 b_rot[k, x] = a
                 if has_t_obs:
                     t_rel[k, x] = t
+            if transposed:  # the block as read is transposed, the translation is not (Slip.decode)
+                b_rot[k, x] = np.swapaxes(b_rot[k, x], -1, -2)
         dev_k[k] = Slip(stated, cand.reading).deviations()
         sign_k[k] = 1.0 if np.sum(np.sign(np.linalg.det(m))) >= 0 else -1.0
     dev_x = np.array([r[3] for r in rels])
@@ -222,9 +225,12 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     rows_all, cost_all, e_all = [], [], []
     for e_i, exp in enumerate(expected):
         r9 = exp.rotation.reshape(n_pairs, 9)
-        w = np.einsum("nj,kxnl->kxjl", r9, b9, optimize=True).reshape(k_n, 3, 3, 3, 3, 3)
-        z = np.einsum("pab,kxbcad->kxpcd", remaps, w, optimize=True)
-        g = np.einsum("qcd,kxpcd->kxpq", remaps, z, optimize=True)       # (K, 3, P, Q)
+        # W[k, x, (b, c), (a, d)] = sum_i R_i[b, c] B_i[a, d]; g = sum P_ab R_bc Q_cd B_ad = (P W' Q^T)
+        # with W'[(a, b), (c, d)]: two small matrix products instead of a six-index sum
+        w = np.einsum("nj,kxnl->kxjl", r9, b9, optimize=True).reshape(k_n * 3, 3, 3, 3, 3)   # [kx, b, c, a, d]
+        w2 = np.ascontiguousarray(np.transpose(w, (0, 3, 1, 2, 4))).reshape(k_n * 3, 9, 9)  # [kx, (a, b), (c, d)]
+        pf = remaps.reshape(n_remap, 9)
+        g = (pf @ w2 @ pf.T).reshape(k_n, 3, n_remap, n_remap)          # (K, 3, P, Q)
         chord2 = np.maximum(bb[:, :, None, None] + 3.0 * n_pairs - 2.0 * g, 0.0)
         a_rot = (0.25 * chord2 / rotation_tolerance ** 2
                  + PRIOR_WEIGHT * (dev_k[:, None, None, None] + dev_x[None, :, None, None] + rc[None, None, :, None]
@@ -254,31 +260,43 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     order = np.argsort(np.concatenate(cost_all), kind="stable")[:keep]
     n_scored = int(len(expected) * k_n * 3 * n_remap * n_remap * s_n * f_n)
 
+    # exact residuals of the short list, vectorised: decode from the arrays already read
+    rows = rows[order]
+    e_idx = e_idx[order]
+    c_i, s_i, f_i, p_i, q_i = rows.T
+    k_i, x_i = np.divmod(c_i, 3)
+    pm, qm = remaps[p_i], remaps[q_i]
+    r_dec = np.swapaxes(pm, -1, -2)[:, None] @ b_rot[k_i, x_i] @ np.swapaxes(qm, -1, -2)[:, None]   # (M, N, 3, 3)
+    t_dec = None
+    if has_t_obs:
+        t_dec = np.einsum("mba,mnb->mna", pm, t_rel[k_i, x_i]) * np.array(LENGTH_SCALES)[s_i][:, None, None]
+        turned = np.einsum("mnab,mnb->mna", r_dec, t_dec)
+        t_dec = np.where((f_i == 1)[:, None, None], turned, np.where((f_i == 2)[:, None, None], -turned, t_dec))
+    exp_r = np.stack([e.rotation for e in expected])[e_idx]                              # (M, N, 3, 3)
+    rr_all = angles_between(exp_r, r_dec)
+    tr_all = None
+    if compare_t:
+        tr_all = np.sqrt(np.sum((t_dec - np.stack([e.translation for e in expected])[e_idx]) ** 2, axis=-1))
     hyps = []
-    for j in order:
-        c, s_i, f_i, p, q = (int(v) for v in rows[j])
-        k, x = divmod(c, 3)
-        action, direction, transposed, _ = rels[x]
-        cand = candidates[k]
-        true = cand.reading.with_fields(action=action, direction=direction)
-        slip = Slip(stated, true, transposed, p, q, float(LENGTH_SCALES[s_i]), TRANSLATION_FRAMES[f_i])
-        hyps.append(_exact(slip, cand.numbers, expected[int(e_idx[j])], int(e_idx[j]), compare_t,
-                           rotation_tolerance, translation_tolerance))
+    for j in range(len(rows)):
+        action, direction, transposed, _ = rels[x_i[j]]
+        true = _with_relation(candidates[k_i[j]].reading, action, direction)
+        slip = Slip(stated, true, transposed, int(p_i[j]), int(q_i[j]), float(LENGTH_SCALES[s_i[j]]),
+                    TRANSLATION_FRAMES[f_i[j]])
+        exp = expected[int(e_idx[j])]
+        rr, tr = rr_all[j], None if tr_all is None else tr_all[j]
+        dev = slip.deviations() + exp.deviations
+        cost = float(np.sum(0.5 * (rr / rotation_tolerance) ** 2)
+                     + (0.0 if tr is None else np.sum(0.5 * (tr / translation_tolerance) ** 2)) + PRIOR_WEIGHT * dev)
+        hyps.append(Hypothesis(slip, int(e_idx[j]), rr, tr, r_dec[j], None if t_dec is None else t_dec[j], cost, dev))
     hyps.sort(key=lambda h: (h.cost, h.slip.order_key()))
     groups = _group(hyps, stated, candidates, limit)
     return Ranking(tuple(groups), n_scored, stated, n_pairs, compare_t)
 
 
-def _exact(slip: Slip, numbers, exp: ExpectedSide, e_i: int, compare_t: bool, sr: float, st: float) -> Hypothesis:
-    r, t = slip.decode(numbers)
-    rr = angles_between(exp.rotation, r)
-    tr = None
-    if compare_t:
-        tr = np.sqrt(np.sum((t - exp.translation) ** 2, axis=-1))
-    dev = slip.deviations() + exp.deviations
-    cost = float(np.sum(0.5 * (rr / sr) ** 2) + (0.0 if tr is None else np.sum(0.5 * (tr / st) ** 2))
-                 + PRIOR_WEIGHT * dev)
-    return Hypothesis(slip, e_i, rr, tr, r, t, cost, dev)
+@lru_cache(maxsize=4096)
+def _with_relation(reading: Reading, action: str, direction: str) -> Reading:
+    return reading.with_fields(action=action, direction=direction)
 
 
 def _same_residuals(a: Hypothesis, b: Hypothesis) -> bool:
@@ -302,6 +320,13 @@ def _probe_numbers(stated: Reading) -> np.ndarray:
     return write_numbers(stated, r, t)
 
 
+def _decode_probe(slip: Slip, probe: np.ndarray, cache: dict):
+    """``slip.decode(probe)``, reading the probe once per true reading (many slips share one)."""
+    if slip.true not in cache:
+        cache[slip.true] = read_numbers(slip.true, probe)
+    return slip.decode(probe, read=cache[slip.true])
+
+
 def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate], limit: int) -> list[Group]:
     raw_groups: list[list[Hypothesis]] = []
     for h in hyps:
@@ -314,15 +339,16 @@ def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate],
     # named numbers are reordered per reading, so a random input cannot be pushed through every slip alike
     probe_ok = all(np.array_equal(c.numbers, candidates[0].numbers) for c in candidates)
     probe = _probe_numbers(stated) if probe_ok else None
+    read_cache: dict = {}
     out = []
     for g in raw_groups[:limit]:
         g = sorted(g, key=lambda h: (h.deviations, h.slip.order_key()))
         lead = g[0]
         same, separable = [], []
         if probe is not None and len(g) > 1:
-            r0, t0 = lead.slip.decode(probe)
+            r0, t0 = _decode_probe(lead.slip, probe, read_cache)
             for h in g[1:]:
-                r1, t1 = h.slip.decode(probe)
+                r1, t1 = _decode_probe(h.slip, probe, read_cache)
                 diff = angles_between(r0, r1)
                 if t0 is not None and t1 is not None:
                     diff = diff + np.linalg.norm(t0 - t1, axis=-1)

@@ -11,9 +11,10 @@ expressed in.  It knows how many things it claims went wrong
 it knows no words (see :mod:`posekit.explain.render`).
 
 Forward model of a slip (truth ``(R, t)`` -> numbers): ``t1 = f(R, t)`` (as is,
-``R^T t`` in child axes, or ``-R^T t`` of the inverse), ``t2 = t1 / s``, ``R1 = R^T`` if
-the rotation block is transposed, ``(R2, t3) = (P R1 Q, P t2)``, numbers = the true
-reading's writing of ``(R2, t3)``.  :meth:`Slip.decode` runs it backwards.
+``R^T t`` in child axes, or ``-R^T t`` of the inverse), ``t2 = t1 / s``,
+``(R2, t3) = (P R Q, P t2)``, ``R3 = R2^T`` if the rotation block is transposed (the
+translation untouched), numbers = the true reading's writing of ``(R3, t3)``.
+:meth:`Slip.decode` runs it backwards.
 
 **The prior** (:data:`PRIOR_WEIGHT` per deviation, i.e. a prior probability
 ``exp(-PRIOR_WEIGHT k)`` for ``k`` deviations), written once here and nowhere else:
@@ -35,6 +36,7 @@ from __future__ import annotations
 import itertools
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -208,6 +210,9 @@ class Slip:
 
     def deviations(self) -> float:
         """How many things this slip claims went wrong (see the module's prior)."""
+        return _deviations(self)
+
+    def _count(self) -> float:
         n = 0.0
         for f, _, _ in self.field_changes():
             n += STATED_COST if f in self.stated.stated else 1.0
@@ -218,18 +223,22 @@ class Slip:
 
     def order_key(self) -> tuple:
         """Fixed tie order: fewer deviations, then earlier families, then remap indices."""
+        return _order_key(self)
+
+    def _key(self) -> tuple:
         fam = tuple(FAMILY_ORDER.index(f) for f in self.families())
         return (round(self.deviations(), 9), len(fam), fam, self.parent_remap, self.child_remap)
 
     # --- what it does --------------------------------------------------------------------
-    def decode(self, numbers):
+    def decode(self, numbers, *, read=None):
         """The pose the numbers ``(..., n)`` really denote: ``(rotation (..., 3, 3), translation (..., 3) or None)``.
 
-        Reads under the true reading, then undoes the transpose, the remaps, the length
-        scale and the translation frame (the module's forward model, backwards).
+        Reads under the true reading (``read``: ``read_numbers(true, numbers)``, when the
+        caller has it already), then undoes the transpose, the transpose, the remaps, the length scale and the
+        translation frame (the module's forward model, backwards).
         """
-        r, t = read_numbers(self.true, numbers)
-        if self.transposed:
+        r, t = read_numbers(self.true, numbers) if read is None else read
+        if self.transposed:  # the rotation block as read is the transpose; the translation is not touched
             r = np.swapaxes(r, -1, -2)
         p, q = REMAPS[self.parent_remap], REMAPS[self.child_remap]
         r = p.T @ r @ q.T
@@ -242,6 +251,7 @@ class Slip:
         return r, t
 
     def as_dict(self) -> dict:
+        """The slip as plain data (JSON-ready)."""
         return {"true_reading": self.true.as_dict(), "changes": [list(c) for c in self.field_changes()],
                 "kind_changed": self.kind_changed, "order_changed": self.order_changed,
                 "rotation_block_transposed": self.transposed,
@@ -249,3 +259,13 @@ class Slip:
                 "child_remap": REMAPS[self.child_remap].astype(int).tolist(),
                 "length_scale": self.length_scale, "translation_frame": self.translation_frame,
                 "deviations": self.deviations(), "handedness_flip": self.improper}
+
+
+@lru_cache(maxsize=65536)
+def _deviations(slip: Slip) -> float:
+    return slip._count()
+
+
+@lru_cache(maxsize=65536)
+def _order_key(slip: Slip) -> tuple:
+    return slip._key()

@@ -574,7 +574,7 @@ class DebugDesk(w.VBox):
                       "would separate them</span>")
         if e.near_tie:
             marks += "<span class='pk-mark pk-mark-tie'>near tie: the prior, not the data, decided the order</span>"
-        verdict = "pk-ok" if d.explained else "pk-error"
+        verdict = "pk-ok" if d.explained else "pk-bad"
         parts = [f"<div class='{verdict}'>{html.escape(d.verdict)}</div>" if e.rank == 1 else "",
                  f"<div class='pk-words'>observed {html.escape(d.assumed_reading)}</div>",
                  f"<div class='pk-words'>{html.escape(d.expected_reading)}</div>",
