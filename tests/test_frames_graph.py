@@ -8,6 +8,8 @@ Organised by law:
 - closure: a graph built from one set of true poses closes every loop;
 - pinpointing: one injected single-edge slip is found on the right edge, and its fix
   restores the true transform;
+- one engine: every loop fix is a posekit.explain Slip, its words are that slip's
+  sentence, and a field the edge's convention text stated costs more than a default;
 then bad input, frozen results, and the demo scenario's own claim.
 
 Every edge's numbers are written here with scipy.spatial.transform (Rotation.as_quat,
@@ -26,6 +28,7 @@ from scipy.spatial.transform import RigidTransform, Rotation
 
 from posekit import Convention, PoseInputError
 from posekit.core.errors import NotUnitQuaternionError, WrongShapeError, WrongTypeError
+from posekit.explain import STATED_COST, sentence
 from posekit.analysis.frames_graph import (CHANGES, DisagreeingEdgeError, DisconnectedFramesError, Edge,
                                            FrameGraph, FrameGraphError, FrameNameError, LoopInTreeError,
                                            UnknownFrameError, read_planar, write_planar)
@@ -328,12 +331,18 @@ def test_single_convention_slip_is_pinpointed(change, seed):
     check = bad.check_loops()
     assert not check.consistent
     best = check.fixes[0]
-    assert best.edge == target and best.change == change, check.summary()
-    assert best.closes_all and best.angle_after < 1e-8 and best.distance_after < 1e-8
+    # JPL numbers give the transpose of the Hamilton matrix, as passive ones do: the same
+    # mistake written two ways, and the engine's tie order (FAMILY_ORDER) leads with action
+    lead = "action" if change == "algebra" else change
+    assert best.edge == target and best.change == lead, check.summary()
+    fix = next(f for f in check.fixes if f.edge == target and f.change == change)
+    assert round(fix.score, 3) == round(best.score, 3) and fix.deviations == best.deviations
+    assert fix.closes_all and fix.angle_after < 1e-8 and fix.distance_after < 1e-8
     np.testing.assert_allclose(best.corrected.transform, truth.as_matrix(), atol=1e-9)
+    np.testing.assert_allclose(fix.corrected.transform, truth.as_matrix(), atol=1e-9)
     if change not in ("rotation-transpose", "length-scale"):
-        assert best.corrected.convention == Convention.parse(true_conv)
-        assert best.corrected.numbers == wrong.numbers  # the same numbers, read right
+        assert fix.corrected.convention == Convention.parse(true_conv)
+        assert fix.corrected.numbers == wrong.numbers  # the same numbers, read right
     assert check.suspects[0] == target
     # the fix as code rebuilds the corrected edge
     fixed = eval(best.code.split(" = ", 1)[1], {"graph": bad, "Edge": Edge})
@@ -386,6 +395,131 @@ def test_planar_single_slip_is_pinpointed(change):
     best = check.fixes[0]
     assert (best.edge, best.change) == (target, change), check.summary()
     np.testing.assert_allclose(best.corrected.transform, truth, atol=1e-9)
+
+
+# --- law: one engine - the loop fixes are the explanation engine's slips ------------------------
+
+def _change_of(slip) -> str:
+    fam = slip.families()[0]
+    return {"axes": "sequence", "transposed": "rotation-transpose", "length_scale": "length-scale"}.get(fam, fam)
+
+
+@pytest.mark.parametrize("make", [orchard_rover, orchard_rover_planar])
+def test_fix_words_are_the_engines_sentence_of_the_fix_slip(make):
+    g = make()
+    check = g.check_loops()
+    assert check.fixes
+    for f in check.fixes + check.partial:
+        assert f.words == sentence(f.slip)
+        assert f.change == _change_of(f.slip) and f.change in CHANGES
+        assert f.deviations == f.slip.deviations()
+        # the slip is told what the edge stated: its stated reading is the edge's own
+        assert f.slip.stated.stated <= g.edges[f.edge].stated
+        assert f.slip.stated.convention.direction == g.edges[f.edge].convention.direction
+        # the corrected edge closes the loops the fix claims to close
+        after = g.replaced(f.edge, f.corrected).check_loops()
+        assert all(after.loops[k].consistent for k in f.loops_closed)
+        assert after.consistent == f.closes_all
+    best = check.fixes[0]
+    assert best.words == "The numbers are child-from-parent (the inverse transform) but were read as " \
+                         "parent-from-child."
+    assert f"  edge {best.edge}: {best.words}" in check.summary()
+    # ranked by loop score, then the engine's prior, then its tie order
+    keys = [(round(f.score, 3), f.slip.deviations(), f.slip.order_key(), f.edge) for f in check.fixes]
+    assert keys == sorted(keys)
+
+
+def test_quaternion_fix_decodes_what_the_corrected_edge_reads():
+    g, place = _spatial_graph(44, n=5, extra=2)
+    clean = g.check_loops()
+    target = next(i for i in range(len(g.edges)) if i not in clean.unchecked_edges)
+    e = g.edges[target]
+    truth = place[e.parent].inv() * place[e.child]  # scipy RigidTransform
+    # scipy Rotation.as_quat(scalar_first=True): the numbers are (w, x, y, z); entered as scalar-last
+    numbers = np.concatenate([truth.translation, truth.rotation.as_quat(scalar_first=True)])
+    bad = g.replaced(target, Edge(e.parent, e.child, numbers, "position-quaternion", "algebra=hamilton"))
+    for f in bad.check_loops().fixes + bad.check_loops().partial:
+        if f.edge != target:
+            continue
+        r, t = f.slip.decode(np.asarray(bad.edges[target].numbers))
+        np.testing.assert_allclose(f.corrected.transform[:3, :3], r, atol=1e-9)
+        np.testing.assert_allclose(f.corrected.transform[:3, 3], t, atol=1e-9)
+
+
+def _pure_rotation_loop(convention: str):
+    # a pure rotation's 16 numbers written column by column: read row by row they give the
+    # transpose, which for a pure rotation is also the inverse - so flipping the direction,
+    # reading the other layout and transposing the block all close the loop exactly
+    rng = np.random.default_rng(5)
+    mount = RigidTransform.from_rotation(Rotation.random(rng=rng))  # scipy: zero translation
+    c = _random_pose(rng)
+    g = (FrameGraph().with_edge("a", "b", mount.as_matrix().T.reshape(-1), "matrix", convention)
+         .with_edge("b", "c", (mount.inv() * c).as_matrix(), "matrix")
+         .with_edge("a", "c", np.concatenate([c.translation, c.rotation.as_quat()]), "position-quaternion",
+                    "scalar=last"))
+    return g, mount
+
+
+@pytest.mark.parametrize("convention, order", [
+    # layout stated (though row-major is the default): the tie goes to the unstated direction
+    ("layout=row-major", ["direction", "rotation-transpose", "layout"]),
+    # direction stated: the tie goes to the unstated layout
+    ("direction=parent-from-child", ["layout", "rotation-transpose", "direction"]),
+])
+def test_a_field_the_convention_text_stated_costs_more_than_an_unstated_one(convention, order):
+    g, mount = _pure_rotation_loop(convention)
+    tied = [f for f in g.check_loops().fixes if f.score < 1e-6]
+    assert [f.change for f in tied] == order
+    assert {f.edge for f in tied} == {0}
+    stated_field = order[-1]
+    assert tied[0].deviations == 1.0 and tied[-1].deviations == STATED_COST > 1.0
+    assert tied[-1].words.endswith("(stated).") and "(stated)" not in tied[0].words
+    for f in tied:
+        assert f.words == sentence(f.slip)
+        np.testing.assert_allclose(f.corrected.transform, mount.as_matrix(), atol=1e-9)  # scipy RigidTransform
+    assert stated_field in g.edges[0].stated
+
+
+def test_camera_quaternion_entered_scalar_last_read_scalar_first_against_scipy():
+    # invented poses; scipy.spatial.transform is the outside reference for the truth
+    world_base = RigidTransform.from_components([1.0, 2.0, 0.0], Rotation.from_euler("z", 30, degrees=True))
+    base_camera = RigidTransform.from_components([0.3, -0.1, 0.8],
+                                                 Rotation.from_euler("ZYX", [10, -25, 5], degrees=True))
+    world_camera = world_base * base_camera  # scipy RigidTransform composition
+    cam_numbers = np.concatenate([base_camera.translation, base_camera.rotation.as_quat()])  # scipy: (x, y, z, w)
+    g = (FrameGraph()
+         .with_edge("world", "base", world_base.as_matrix(), "matrix", source="localiser")
+         .with_edge("base", "camera", cam_numbers, "position-quaternion", "scalar=first", source="drawing")
+         .with_edge("world", "camera", world_camera.as_matrix(), "matrix", source="survey"))
+    check = g.check_loops()
+    assert not check.consistent
+    best = check.fixes[0]
+    assert (best.edge, best.change) == (1, "scalar"), check.summary()
+    assert best.words == sentence(best.slip) == ("The quaternion was written scalar-last but read scalar-first "
+                                                 "(stated).")
+    assert best.deviations == STATED_COST  # the edge's text said scalar=first
+    assert best.corrected.numbers == g.edges[1].numbers and best.corrected.convention.scalar == "last"
+    # reference: scipy Rotation.from_quat reads (x, y, z, w); RigidTransform.from_components builds the 4x4
+    want = RigidTransform.from_components(cam_numbers[:3], Rotation.from_quat(cam_numbers[3:])).as_matrix()
+    np.testing.assert_allclose(best.corrected.transform, want, atol=1e-12)
+    np.testing.assert_allclose(best.corrected.transform, base_camera.as_matrix(), atol=1e-12)
+    assert g.replaced(1, best.corrected).check_loops().consistent
+
+
+def test_edges_keep_the_fields_their_convention_stated():
+    e = Edge("a", "b", [0, 0, 0, 1, 0, 0, 0], "position-quaternion", "scalar=first direction=parent-from-child")
+    assert e.stated == {"scalar", "direction"}  # defaults, but written: stated
+    assert Edge("a", "b", np.eye(4), "matrix", Convention(layout="column-major")).stated == {"layout"}
+    assert Edge("a", "b", np.eye(4)).stated == frozenset()
+    assert e == Edge("a", "b", [0, 0, 0, 1, 0, 0, 0], "position-quaternion")  # not part of equality
+    assert e.changed(convention="algebra=jpl").stated == {"algebra"}
+    assert e.flipped().stated == {"scalar", "direction"}
+    assert Edge("a", "b", np.eye(4)).flipped().stated == {"direction"}
+    # the code keeps what was stated, so re-entering it is charged the same way
+    again = eval(e.code(), {"Edge": Edge})
+    assert again == e and again.stated == e.stated
+    with pytest.raises(WrongTypeError):
+        Edge("a", "b", np.eye(4), stated={"colour"})
 
 
 def test_two_slips_in_separate_loops_are_not_explained_by_one_edge():

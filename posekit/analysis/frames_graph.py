@@ -519,10 +519,15 @@ class Loop:
 class EdgeFix:
     """One change to one edge, and how well the loops close after it.
 
-    ``change`` is one of :data:`CHANGES`; ``corrected`` is the edge as it should have
-    been entered (same numbers with another convention, or numbers changed as ``words``
-    says); ``angle_after``/``distance_after`` are the worst residuals over every loop
-    after the change; ``closes_all`` is True when every loop then closes within tolerance.
+    ``slip`` is the explanation engine's :class:`~posekit.explain.Slip`: the edge's
+    numbers written under ``slip.true`` and read under the edge's own reading
+    ``slip.stated``.  ``change`` is one of :data:`CHANGES` (the slip's first family);
+    ``words`` is :func:`posekit.explain.sentence` of the slip; ``corrected`` is the edge as
+    it should have been entered (the same numbers with another convention when the slip
+    is a field slip, else the decoded transform written under the edge's own
+    convention), and it reads back to the transform the slip decodes;
+    ``angle_after``/``distance_after`` are the worst residuals over every loop after the
+    change; ``closes_all`` is True when every loop then closes within tolerance.
     """
 
     edge: int
@@ -534,6 +539,12 @@ class EdgeFix:
     closes_all: bool
     loops_closed: tuple[int, ...]
     score: float
+    slip: Slip | None = None
+
+    @property
+    def deviations(self) -> float:
+        """How many things the fix claims went wrong (the engine's prior, :meth:`Slip.deviations`)."""
+        return self.slip.deviations()
 
     @property
     def code(self) -> str:
@@ -545,8 +556,10 @@ class EdgeFix:
 class LoopCheck:
     """Every loop of a graph and the single-edge fixes that close them.
 
-    ``fixes`` holds the fixes that close *every* loop, best first (ties listed in
-    :data:`CHANGES` order: several fixes may explain the same numbers equally well);
+    ``fixes`` holds the fixes that close *every* loop, best first: by how well the loops
+    close, then by the engine's prior (fewest claimed mistakes; a field the edge's
+    convention stated costs more than a default), then by its fixed tie order - several
+    fixes may explain the same numbers equally well;
     ``partial`` holds fixes that close some inconsistent loops but not all (a sign of
     more than one wrong edge); ``unchecked_edges`` are edges on no loop, which no loop
     can confirm or blame.
@@ -918,10 +931,12 @@ class FrameGraph:
     def check_loops(self) -> LoopCheck:
         """Every loop's inconsistency and the single-edge fixes that would close them all.
 
-        Each edge on a loop is tried with every change in :data:`CHANGES` that applies
-        to its kind; the loops through it are re-closed for all candidates at once (one
-        batched matrix product per loop).  A fix *closes* a loop when the rotation angle
-        and the translation distance are both within the graph's tolerances.
+        Each edge on a loop is tried with every single slip the engine knows for its kind
+        (see :func:`_candidates`); the loops through it are re-closed for all candidates
+        at once (one batched matrix product per loop).  A fix *closes* a loop when the
+        rotation angle and the translation distance are both within the graph's
+        tolerances.  Ranking: the loop score, then :meth:`Slip.deviations`, then
+        :meth:`Slip.order_key`, then the edge index.
         """
         basis = self._loop_steps()
         loops = tuple(self._make_loop(i, steps) for i, steps in basis)
@@ -933,10 +948,11 @@ class FrameGraph:
         if loops and not all(lp.consistent for lp in loops):
             bad = {k for k, lp in enumerate(loops) if not lp.consistent}
             for ei in on_loop:
-                cands = _candidates(self._edges[ei])
+                edge = self._edges[ei]
+                cands = _candidates(edge)
                 if not cands:
                     continue
-                stack = np.stack([c[2].transform for c in cands])
+                stack = np.stack([c.transform for c in cands])
                 ang = np.broadcast_to(base_ang, (len(cands), len(loops))).copy()
                 dist = np.broadcast_to(base_dist, (len(cands), len(loops))).copy()
                 for k, (_, steps) in enumerate(basis):
@@ -953,16 +969,20 @@ class FrameGraph:
                 dtol = max(self._dtol, 1e-12)
                 score = np.maximum(ang / atol, dist / dtol)
                 closed = score <= 1.0
-                for c, (change, words, edge) in enumerate(cands):
+                for c, cand in enumerate(cands):
                     now_closed = tuple(k for k in sorted(bad) if closed[c, k])
                     if not now_closed:
                         continue
-                    fix = EdgeFix(ei, change, words, edge, float(ang[c].max()), float(dist[c].max()),
-                                  bool(closed[c].all()), now_closed, float(score[c].max()))
+                    corrected = _corrected_edge(edge, cand)
+                    if corrected is None:
+                        continue
+                    fix = EdgeFix(ei, cand.change, sentence(cand.slip), corrected, float(ang[c].max()),
+                                  float(dist[c].max()), bool(closed[c].all()), now_closed, float(score[c].max()),
+                                  cand.slip)
                     (fixes if fix.closes_all else partial).append(fix)
 
         def rank(f: EdgeFix):
-            return (round(f.score, 3), CHANGES.index(f.change), f.edge)
+            return (round(f.score, 3), f.slip.deviations(), f.slip.order_key(), f.edge)
 
         fixes.sort(key=rank)
         partial.sort(key=lambda f: (-len(f.loops_closed), rank(f)))
@@ -970,106 +990,149 @@ class FrameGraph:
         return LoopCheck(loops, tuple(fixes), tuple(partial), unchecked, self._atol, self._dtol)
 
 
-# --- the candidate changes of one edge ------------------------------------------------
+# --- the candidate changes of one edge: the engine's slips ---------------------------
 
-def _entered_matrix(edge: Edge) -> tuple[np.ndarray, callable]:
-    """The homogeneous matrix as entered (before ``direction``), and a function writing one back as numbers."""
+def _entered_matrix(edge: Edge) -> np.ndarray:
+    """The homogeneous matrix as entered (rows as written, before ``direction``)."""
     n = 3 if edge.planar else 4
-    conv = edge.convention
     arr = np.asarray(edge.numbers, dtype=float)
-    shape = arr.shape
-    if shape in ((n, n), (n - 1, n)):
-        m = np.eye(n)
-        m[: shape[0]] = arr
-        return m, lambda new: new[: shape[0]]
-    rows = n if arr.size == n * n else n - 1
-    if conv.layout == "row-major":
-        m = np.eye(n)
-        m[:rows] = arr.reshape(rows, n)
-        return m, lambda new: new[:rows].reshape(-1)
     m = np.eye(n)
-    m[:rows] = arr.reshape(n, rows).T
-    return m, lambda new: new[:rows].T.reshape(-1)
-
-
-def _try(edge: Edge, **settings):
-    try:
-        return edge.changed(**settings)
-    except PoseInputError:
-        return None
-
-
-def _candidates(edge: Edge) -> list[tuple[str, str, Edge]]:
-    """Every single change of ``edge`` that still reads and moves the transform: ``(change, words, Edge)``."""
-    conv = edge.convention
-    out: list[tuple[str, str, Edge]] = []
-
-    def add(change, words, new):
-        if new is None:
-            return
-        if np.allclose(new.transform, edge.transform, atol=1e-12, rtol=0):
-            return  # reads to the same transform: not a change at all
-        out.append((change, words, new))
-
-    other_dir = "child-from-parent" if conv.direction == "parent-from-child" else "parent-from-child"
-    if other_dir == "child-from-parent":
-        dwords = (f"flip the direction: the numbers map {edge.parent} coordinates into {edge.child} "
-                  f"(direction=child-from-parent)")
+    if arr.ndim == 2:
+        m[: arr.shape[0]] = arr
+        return m
+    rows = n if arr.size == n * n else n - 1
+    if edge.convention.layout == "row-major":
+        m[:rows] = arr.reshape(rows, n)
     else:
-        dwords = (f"flip the direction: the numbers map {edge.child} coordinates into {edge.parent} "
-                  f"(direction=parent-from-child)")
-    add("direction", dwords, _try(edge, convention=conv.changed(direction=other_dir)))
-    kind = edge.kind
-    if kind == "position-quaternion":
-        s = "last" if conv.scalar == "first" else "first"
-        order = "(x, y, z, w)" if s == "last" else "(w, x, y, z)"
-        add("scalar", f"read the quaternion scalar-{s} {order} (scalar={s})",
-            _try(edge, convention=conv.changed(scalar=s)))
-        a = "jpl" if conv.algebra == "hamilton" else "hamilton"
-        add("algebra", f"read the quaternion with the {'JPL' if a == 'jpl' else 'Hamilton'} algebra (algebra={a})",
-            _try(edge, convention=conv.changed(algebra=a)))
-    if kind in ("position-quaternion", "position-euler", "position-heading"):
-        act = "passive" if conv.action == "active" else "active"
-        add("action", f"read the rotation as {act} (action={act}): its transpose",
-            _try(edge, convention=conv.changed(action=act)))
-    if kind == "position-euler":
-        for seq in CHOICES["sequence"]:
-            for axes in CHOICES["axes"]:
-                if (seq, axes) == (conv.sequence, conv.axes):
-                    continue
-                where = "moving" if axes == "intrinsic" else "fixed"
-                add("sequence", f"read the Euler angles as sequence {seq} about the {where} axes "
-                                f"(sequence={seq} axes={axes})",
-                    _try(edge, convention=conv.changed(sequence=seq, axes=axes)))
-    if kind in ("position-euler", "position-heading"):
-        u = "radians" if conv.unit == "degrees" else "degrees"
-        add("unit", f"read the angles in {u} (unit={u})", _try(edge, convention=conv.changed(unit=u)))
+        m[:rows] = arr.reshape(n, rows).T
+    return m
+
+
+#: The enumerated fields whose other values each kind of edge is tried with (``action`` and
+#: ``direction`` are flipped separately); a nested matrix has no flat layout to get wrong.
+_FIELDS_TRIED = {"position-quaternion": {"scalar", "algebra"}, "position-euler": {"sequence", "axes", "unit"},
+                 "flat matrix": {"layout"}, "nested matrix": set(), "position-heading": {"unit"}}
+
+
+def _engine_view(edge: Edge) -> tuple[Reading, np.ndarray, str]:
+    """The edge as the explanation engine reads it: the stated reading, flat numbers, and a key into
+    :data:`_FIELDS_TRIED`.
+
+    SE(3): position-quaternion and position-euler are the engine's kinds of the same
+    names; a matrix is a ``transform`` of 16 or 12 numbers (nested numbers are flattened
+    row by row, so ``layout`` does not apply to them).  SE(2), which the engine has no kind
+    for: ``x, y, heading`` is read as ``x, y, 0`` and the Euler angles ``heading, 0, 0``
+    about z-y-x (a heading is a turn about z, common practice), and a ``(3, 3)`` matrix as
+    the ``(4, 4)`` that turns about z, written with the same layout; the decoded ``(4, 4)``
+    is cut back to ``(3, 3)``.
+    """
+    conv, stated = edge.convention, edge.stated
     arr = np.asarray(edge.numbers, dtype=float)
-    if kind == "matrix":
+    if edge.planar and edge.kind == "position-heading":
+        inner = conv.changed(sequence="z-y-x", axes="intrinsic")
+        numbers = np.array([arr[0], arr[1], 0.0, arr[2], 0.0, 0.0])
+        return Reading("position-euler", inner, stated - {"sequence", "axes"}, True, 6), numbers, edge.kind
+    if edge.planar:
+        m3 = _entered_matrix(edge)
+        m4 = np.eye(4)
+        m4[:2, :2], m4[:2, 3] = m3[:2, :2], m3[:2, 2]
+        flat = arr.ndim == 1
+        layout = conv.layout if flat else "row-major"
+        numbers = (m4.T if layout == "column-major" else m4).reshape(-1)
+        stated = stated if flat else stated - {"layout"}
+        return (Reading("transform", conv.changed(layout=layout), stated, True, 16), numbers,
+                "flat matrix" if flat else "nested matrix")
+    if edge.kind == "matrix":
         if arr.ndim == 1:
-            lay = "column-major" if conv.layout == "row-major" else "row-major"
-            how = "column by column" if lay == "column-major" else "row by row"
-            add("layout", f"read the flat numbers {how} (layout={lay})",
-                _try(edge, convention=conv.changed(layout=lay)))
-        m, back = _entered_matrix(edge)
-        n = m.shape[0]
-        t = m.copy()
-        t[: n - 1, : n - 1] = m[: n - 1, : n - 1].T
-        add("rotation-transpose", "transpose the rotation block and keep the translation (a passive or inverse "
-                                  "rotation typed into an active transform)",
-            _try(edge, numbers=back(t)))
-    for k in LENGTH_FACTORS:
-        if kind == "matrix":
-            m, back = _entered_matrix(edge)
-            n = m.shape[0]
-            s = m.copy()
-            s[: n - 1, n - 1] *= k
-            new = back(s)
+            return Reading("transform", conv, stated, True, arr.size), arr, "flat matrix"
+        return (Reading("transform", conv.changed(layout="row-major"), stated - {"layout"}, True, arr.size),
+                arr.reshape(-1), "nested matrix")
+    return Reading(edge.kind, conv, stated, True, arr.size), arr, edge.kind
+
+
+def _slips(stated: Reading, tried: set[str]) -> list[Slip]:
+    """Every single slip of the stated reading the fix search tries, in no particular order."""
+    c = stated.convention
+    out = [Slip(stated, stated.with_fields(
+        direction="child-from-parent" if c.direction == "parent-from-child" else "parent-from-child"))]
+    if stated.parameterised:
+        out.append(Slip(stated, stated.with_fields(action="passive" if c.action == "active" else "active")))
+    for true in readings_of(stated):
+        if true.kind != stated.kind or true.position_first != stated.position_first:
+            continue  # the edge kinds have no rotation vector and no rotation-first order
+        slip = Slip(stated, true)
+        changed = {f for f, _, _ in slip.field_changes()}
+        if changed and changed <= tried and (len(changed) == 1 or changed <= {"sequence", "axes"}):
+            out.append(slip)
+    if stated.rotation_kind == "matrix":
+        out.append(Slip(stated, stated, transposed=True))
+    out += [Slip(stated, stated, length_scale=s) for s in LENGTH_FACTORS]
+    return out
+
+
+@dataclass(frozen=True)
+class _Candidate:
+    """One slip of an edge, the fix's ``change`` name for it and the transform it decodes to."""
+
+    slip: Slip
+    change: str
+    transform: np.ndarray
+
+
+def _decoded(slip: Slip, numbers: np.ndarray, planar: bool) -> np.ndarray:
+    """The canonical parent-from-child transform the slip says the numbers denote."""
+    r, t = slip.decode(numbers)
+    if planar:
+        m = np.eye(3)
+        m[:2, :2], m[:2, 2] = r[:2, :2], t[:2]
+        return m
+    m = np.eye(4)
+    m[:3, :3], m[:3, 3] = r, t
+    return m
+
+
+def _corrected_edge(edge: Edge, cand: _Candidate) -> Edge | None:
+    """The edge as it should have been entered, reading back to the decoded transform; None when no edge can.
+
+    A field slip keeps the numbers and reads them with the true fields (now stated); any
+    other slip writes the decoded transform under the edge's own convention
+    (:func:`posekit.explain.write_numbers`; :func:`write_planar` for SE(2)).
+    """
+    slip, transform = cand.slip, cand.transform
+    changes = {f: v for f, _, v in slip.field_changes()}
+    try:
+        if changes and not (slip.transposed or slip.length_scale != 1.0):
+            corrected = edge.changed(convention=edge.convention.changed(**changes),
+                                     stated=edge.stated | set(changes))
         else:
-            new = arr.copy()
-            w = 2 if kind == "position-heading" else 3
-            new[:w] *= k
-        add("length-scale", f"multiply the translation by {k:g} (entered in other length units, e.g. "
-                            f"{'millimetres read as metres' if k == 0.001 else 'centimetres read as metres' if k == 0.01 else 'metres read as centimetres' if k == 100 else 'metres read as millimetres'})",
-            _try(edge, numbers=new))
+            arr = np.asarray(edge.numbers, dtype=float)
+            if edge.planar:
+                new = write_planar(transform, edge.kind, edge.convention, flat=arr.ndim == 1)
+            else:
+                new = write_numbers(slip.stated, transform[:3, :3], transform[:3, 3]).reshape(arr.shape)
+            corrected = edge.changed(numbers=new)
+    except PoseInputError:
+        return None  # e.g. another layout of 16 numbers that hold a translation: no transform at all
+    if not np.allclose(corrected.transform, transform, atol=1e-9, rtol=1e-9):
+        return None  # the engine's tolerant reading and the core's checked one part ways: no sound fix
+    return corrected
+
+
+def _candidates(edge: Edge) -> list[_Candidate]:
+    """Every single slip of ``edge`` that moves the transform, with the transform it decodes to.
+
+    The slips are the engine's (:class:`posekit.explain.Slip`), stated = the edge's reading
+    with the fields its convention stated: the direction flipped; for quaternions and
+    angles the action flipped; one other value of each enumerated field of the kind
+    (scalar, algebra, unit, flat layout) and every other Euler sequence / axes pair; for
+    matrices the rotation block transposed on its own; the engine's length scales.
+    """
+    stated, numbers, key = _engine_view(edge)
+    out: list[_Candidate] = []
+    for slip in _slips(stated, _FIELDS_TRIED[key]):
+        t = _decoded(slip, numbers, edge.planar)
+        if not np.all(np.isfinite(t)) or np.allclose(t, edge.transform, atol=1e-12, rtol=0):
+            continue  # reads to the same transform: not a change at all
+        fam = slip.families()[0]
+        out.append(_Candidate(slip, _CHANGE_OF_FAMILY.get(fam, fam), t))
     return out

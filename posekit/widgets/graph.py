@@ -253,7 +253,7 @@ class GraphExplorer(w.VBox):
         best = check.fixes[0]
         self.graph = self.graph.replaced(best.edge, best.corrected)
         self.edge = best.edge
-        self.status.value = words_html(f"Applied to edge {best.edge}: {best.words}. As code: {best.code}")
+        self.status.value = words_html(f"Applied to edge {best.edge}: {best.words} As code: {best.code}")
 
     def reset(self) -> None:
         self.graph = self._original
