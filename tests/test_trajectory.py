@@ -393,3 +393,21 @@ def test_quaternion_orders_and_algebras_flip_rows(scalar, algebra):
     rep = check_trajectory(t, bad, "quaternion", conv)
     assert rep.findings["quaternion_sign_flips"].rows.tolist() == [123, 321]
     assert np.array_equal(rep.quaternion, q)
+
+
+def test_motion_prior_speaks_with_the_engine_and_its_prior():
+    # the quaternions logged scalar-last (written by posekit from scipy-checked angles above) and read
+    # scalar-first: every reading that makes the turn axis vertical is an engine slip, worded by the engine,
+    # and among equally vertical readings the one claiming fewer mistakes leads
+    from posekit.explain import Slip, sentence, stated_reading
+    t, a = ground_angles()
+    R = pk.read_rotation(a, "euler", ZYX)
+    q_last = sign_continuous(pk.write_rotation(R, "quaternion", "scalar=last"))
+    rep = check_trajectory(t, q_last, "quaternion", "scalar=first", ground_vehicle=True)
+    assert rep.prior.passed is False
+    lead = rep.prior.candidates[0]
+    assert lead[0] == "scalar=last" and min(lead[1], lead[2]) > 0.9
+    stated = stated_reading(4, "quaternion", "scalar=first")
+    slip = Slip(stated, stated.with_fields(scalar="last"))
+    assert sentence(slip)[:-1] in " ".join(rep.prior.suggestions)
+    assert "(stated)" in sentence(slip)

@@ -44,6 +44,7 @@ from ..core.checks import orthonormality_error
 from ..core.convention import CHOICES, Convention
 from ..core.errors import PoseInputError, WrongShapeError, WrongTypeError
 from ..core.reading import as_convention, read_rotation, write_rotation
+from ..explain import Reading, Slip, read_numbers, readings_of, sentence, stated_fields
 
 __all__ = [
     "TrajectoryInputError",
@@ -604,7 +605,8 @@ def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, g
 
     prior = None
     if ground_vehicle:
-        prior = _motion_prior(vals, kind, conv, pos, m, vertical, share_needed, world_sum, body_sum, total_turn)
+        prior = _motion_prior(vals, kind, conv, stated_fields(convention), pos, m, vertical, share_needed,
+                              world_sum, body_sum, total_turn)
     all_rejected = tuple(sorted(tuple(_known) + tuple(rejected), key=lambda r: r.row))
     return TrajectoryReport(conv, kind, n, t, used, quat, norm, ortho, euler, pole, rate, MappingProxyType(F),
                             all_rejected, MappingProxyType(settings), _mapping, prior, tuple(notes))
@@ -616,7 +618,8 @@ def _shares_of(rots):
     return (ws / tw if tw > 0 else ws), (bs / tb if tb > 0 else bs), total
 
 
-def _motion_prior(vals, kind, conv, pos, m, vertical, share_needed, world_sum, body_sum, total_turn) -> MotionPrior:
+def _motion_prior(vals, kind, conv, stated, pos, m, vertical, share_needed, world_sum, body_sum,
+                  total_turn) -> MotionPrior:
     iv = "xyz".index(vertical)
     tw, tb = float(np.sum(world_sum)), float(np.sum(body_sum))
     world = world_sum / tw if tw > 0 else world_sum
@@ -633,43 +636,15 @@ def _motion_prior(vals, kind, conv, pos, m, vertical, share_needed, world_sum, b
             suggestions.append(f"the {name} frame turns about its {'xyz'[j]} axis ({share[j]:.2f} of the turning): "
                                f"swapping its {'xyz'[j]} and {vertical} axes (e.g. {'an' if j == 0 else 'a'} {'xyz'[j]}-up frame) "
                                "would make the turn axis vertical")
-    # alternative readings on an even subsample of the used rows
+    # every other reading of the same numbers (the explanation engine's slips), on an even subsample
     take = np.linspace(0, m - 1, min(m, 20001)).astype(np.int64)
     rows = take if pos is None else pos[take]
     sub = vals[rows]
-    alts = []
-    if kind == "euler":
-        for seq in CHOICES["sequence"]:
-            for axes in ("intrinsic", "extrinsic"):
-                alts.append(conv.changed(sequence=seq, axes=axes))
-    elif kind == "quaternion":
-        other = {"first": "last", "last": "first"}
-        alg = {"hamilton": "jpl", "jpl": "hamilton"}
-        alts += [conv.changed(scalar=other[conv.scalar]), conv.changed(algebra=alg[conv.algebra]),
-                 conv.changed(scalar=other[conv.scalar], algebra=alg[conv.algebra])]
-    else:
-        alts.append(conv.changed(direction={"parent-from-child": "child-from-parent",
-                                            "child-from-parent": "parent-from-child"}[conv.direction]))
-        if sub.ndim == 2:
-            alts.append(conv.changed(layout={"row-major": "column-major", "column-major": "row-major"}[conv.layout]))
-    candidates = []
-    for alt in alts:
-        if alt == conv:
-            continue
-        try:
-            rr = read_rotation(sub, kind, alt, normalise=True, tolerance=np.inf) if kind != "matrix" else \
-                read_rotation(sub, kind, alt, tolerance=np.inf)
-        except PoseInputError:
-            continue
-        ws, bs, _ = _shares_of(rr)
-        candidates.append((_difference(conv, alt), float(ws[iv]), float(bs[iv])))
-    # best vertical share first (to 2 digits); on a tie, Tait-Bryan before proper Euler readings, since a
-    # small middle angle of a proper Euler sequence would put a level vehicle at gimbal lock
-    proper = {text: alt.is_proper_euler for text, alt in ((_difference(conv, a), a) for a in alts)}
-    candidates.sort(key=lambda c: (-round(min(c[1], c[2]), 2), proper.get(c[0], False), -min(c[1], c[2])))
-    good = [c for c in candidates if min(c[1], c[2]) >= share_needed]
+    candidates, good = _motion_candidates(sub, kind, conv, stated, iv)
+    good = [c for c in good if min(c[1], c[2]) >= share_needed]
     if good:
-        shown = ", ".join(f"{text} (world share {w:.2f}, body share {b:.2f})" for text, w, b in good[:8])
+        shown = "; ".join(f"{sentence(slip)[:-1]} ({text}: world share {w:.2f}, body share {b:.2f})"
+                          for (text, w, b), slip in ((c[:3], c[3]) for c in good[:8]))
         more = f" and {len(good) - 8} more" if len(good) > 8 else ""
         suggestions.append(f"{len(good)} other reading(s) of the same numbers make the turn axis vertical, best "
                            f"first: {shown}{more}; small tilts make several readings fit, so confirm with a "
@@ -677,9 +652,37 @@ def _motion_prior(vals, kind, conv, pos, m, vertical, share_needed, world_sum, b
     return MotionPrior(vertical, share_needed, total_turn, world, body, False, tuple(suggestions), tuple(candidates))
 
 
-def _difference(base: Convention, alt: Convention) -> str:
-    a, b = base.to_text().split(), alt.to_text().split()
-    return " ".join(y for x, y in zip(a, b) if x != y)
+def _motion_candidates(sub, kind, conv, stated, iv):
+    """Every reading one or more fields away (the engine's :func:`~posekit.explain.readings_of`), scored by
+    how vertical the turn axis becomes -> ``(candidates (text, world, body), ranked [(text, w, b, slip)])``.
+
+    Ranking: the vertical share (to 2 digits, the smaller of world and body), then a Tait-Bryan
+    reading before a proper Euler one (a small middle angle of a proper Euler sequence would put a
+    level vehicle at gimbal lock), then the engine's prior (:meth:`~posekit.explain.Slip.deviations`:
+    a field the caller stated costs more) and its fixed tie order.  Transposing every rotation
+    (passive vs active, direction) only swaps the world and body turns, so motion alone cannot
+    see it and it is not tried here; nor is another kind of numbers, which the caller states, nor
+    another angle unit: shrinking every angle makes any motion look level, so the turn axis cannot
+    judge the unit (the rate limit does).
+    """
+    nested = kind == "matrix" and sub.ndim == 3
+    numbers = sub.reshape(len(sub), -1)
+    start = Reading(kind, conv, stated, count=numbers.shape[1])
+    scored = []
+    for reading in readings_of(start)[1:]:
+        slip = Slip(start, reading)
+        changes = slip.field_changes()
+        if slip.kind_changed or any(f == "unit" or (nested and f == "layout") for f, _, _ in changes):
+            continue
+        rr, _ = read_numbers(reading, numbers)
+        if kind == "matrix" and np.any(orthonormality_error(rr) > 1e-3):
+            continue  # read this way the numbers are no rotation
+        ws, bs, _ = _shares_of(rr)
+        text = " ".join(f"{f}={new}" for f, _, new in changes)
+        scored.append((text, float(ws[iv]), float(bs[iv]), slip))
+    scored.sort(key=lambda c: (-round(min(c[1], c[2]), 2), c[3].true.convention.is_proper_euler and kind == "euler",
+                               c[3].deviations(), c[3].order_key()))
+    return tuple(c[:3] for c in scored), scored
 
 
 # --------------------------------------------------------------------------------------------- CSV
