@@ -124,9 +124,10 @@ class DebugDesk(w.VBox):
     :class:`~posekit.widgets.Explorer` (its pose is followed live).  The same
     ``convention`` is the reading you assumed for the pasted numbers.
 
-    >>> desk = DebugDesk(pasted="0.0343 0.1060 0.9819 -0.1534",
-    ...                  expected="yawed 20 degrees left, pitched 10 degrees down")  # doctest: +SKIP
-    >>> desk.diagnosis.best.sentence  # doctest: +SKIP
+    >>> desk = DebugDesk(pasted="-0.0151 0.0858 0.1730 0.9811",
+    ...                  expected="yawed 20 degrees left, pitched 10 degrees down")
+    >>> desk.diagnosis.best.sentence
+    'The quaternion was written scalar-last but read scalar-first.'
     """
 
     pasted = t.Unicode("")
