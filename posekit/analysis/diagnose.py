@@ -584,9 +584,13 @@ def _rounded(values: np.ndarray) -> tuple:
     return tuple(tuple(float(x) for x in row) for row in v)
 
 
-def _corrected(h, stated: Reading):
-    """Corrected numbers in the stated reading; off-orthonormal printed digits are projected (and said)."""
-    r = h.rotation
+def _corrected(h, stated: Reading, numbers):
+    """Corrected numbers in the stated reading; off-orthonormal printed digits are projected (and said).
+
+    The pose is decoded again with :meth:`Slip.decode` (the readers the fix code calls), so the
+    numbers shown and the numbers the code prints agree to the last bit, also at a pole.
+    """
+    r, t = h.slip.decode(numbers)
     err = orthonormality_error(r)
     project = bool(np.max(err) > ORTHONORMAL_TOLERANCE or np.any(np.linalg.det(r) < 0))
     if project:
@@ -594,8 +598,8 @@ def _corrected(h, stated: Reading):
         d = np.sign(np.linalg.det(u @ vt))
         u[..., :, 2] *= d[..., None]
         r = u @ vt
-    nums = write_numbers(stated, r, h.translation)
-    return r, nums, project
+    nums = write_numbers(stated, r, t)
+    return r, t, nums, project
 
 
 def _explanations(ranking, stated: Reading, candidates, single: bool, tol_r: float, tol_t: float,
@@ -604,10 +608,8 @@ def _explanations(ranking, stated: Reading, candidates, single: bool, tol_r: flo
     best = ranking.groups[0].lead
     for rank, g in enumerate(ranking.groups, start=1):
         h = g.lead
-        r, nums, project = _corrected(h, stated)
-        cand_nums = next(c.numbers for c in candidates if c.reading == h.slip.true.with_fields(
-            action=stated.convention.action, direction=stated.convention.direction)) if single else None
-        raw = cand_nums[0] if cand_nums is not None else None
+        r, t_fix, nums, project = _corrected(h, stated, candidates[h.candidate].numbers)
+        raw = candidates[h.candidate].numbers[0] if single else None
         normalise = bool(raw is not None and h.slip.true.rotation_kind == "quaternion" and abs(np.linalg.norm(
             raw[-4:] if h.slip.true.kind == "quaternion" or h.slip.true.position_first else raw[:4]) - 1) > 1e-6)
         code = fix_code(h.slip, raw, batch=not single, normalise=normalise, project=project)
@@ -631,7 +633,7 @@ def _explanations(ranking, stated: Reading, candidates, single: bool, tol_r: flo
             rank, sent, rr, tr, h.cost, round(h.deviations, 6) + 0.0, h.slip.true, _relation(h.slip),
             REMAPS[h.slip.parent_remap].copy(), REMAPS[h.slip.child_remap].copy(), h.slip.translation_frame,
             h.slip.length_scale, r[0] if single else r,
-            None if h.translation is None else (h.translation[0] if single else h.translation),
+            None if t_fix is None else (t_fix[0] if single else t_fix),
             _rounded(nums[0] if single else nums), code, same, near, h.slip.improper,
             tuple(_member(o.slip) for o in (h,) + g.same + tuple(x for x, _ in g.separable)), sep, h.slip,
             expected_words[h.expected]))

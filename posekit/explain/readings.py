@@ -20,6 +20,7 @@ from __future__ import annotations
 import itertools
 import re
 from dataclasses import dataclass, field, replace
+from functools import lru_cache
 
 import numpy as np
 
@@ -195,6 +196,7 @@ def stated_reading(count: int, kind: str | None = None, convention=None, stated=
     return Reading(kind, conv, fields, position_first, count)
 
 
+@lru_cache(maxsize=256)
 def readings_of(stated: Reading) -> tuple[Reading, ...]:
     """Every reading of the same numbers one or more enumerated fields (or the kind, or the
     position order) away from ``stated``, the stated one first; ``action`` and ``direction``

@@ -8,6 +8,8 @@ reading (one pose, or an ``(N, n)`` array of them with ``batch=True``).
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from .readings import Reading
@@ -21,6 +23,13 @@ _ROTATION_NAMES = {"quaternion": "the quaternion", "euler": "the Euler angles", 
 
 def _mark(field: str, stated: Reading) -> str:
     return " (stated)" if field in stated.stated else ""
+
+
+@lru_cache(maxsize=96)
+def _remap_words(index: int, transposed: bool) -> str:
+    """Words of remap ``index`` (its transpose for the child side, which maps the other way)."""
+    m = REMAPS[index]
+    return describe_remap(m.T if transposed else m)
 
 
 def slip_parts(slip: Slip) -> list[str]:
@@ -83,9 +92,9 @@ def slip_parts(slip: Slip) -> list[str]:
                        if slip.translation_frame == "child-axes" else
                        "the translation is that of the inverse transform (the parent origin seen from the child)")
         elif fam == "parent_remap":
-            out.append(f"the parent frame's axes are remapped: {describe_remap(REMAPS[slip.parent_remap])}")
+            out.append(f"the parent frame's axes are remapped: {_remap_words(slip.parent_remap, False)}")
         elif fam == "child_remap":
-            out.append(f"the child frame's axes are remapped: {describe_remap(REMAPS[slip.child_remap].T)}")
+            out.append(f"the child frame's axes are remapped: {_remap_words(slip.child_remap, True)}")
     return out
 
 

@@ -58,7 +58,8 @@ class ExpectedSide:
 
 @dataclass(frozen=True, eq=False)
 class Hypothesis:
-    """One scored slip: per-pair residuals, the decoded (corrected) pose, and its cost."""
+    """One scored slip: per-pair residuals, the decoded (corrected) pose, its cost, and the index of the
+    candidate whose numbers it read."""
 
     slip: Slip
     expected: int
@@ -68,6 +69,7 @@ class Hypothesis:
     translation: np.ndarray | None
     cost: float
     deviations: float
+    candidate: int = -1
 
     @property
     def rotation_rms(self) -> float:
@@ -140,6 +142,42 @@ def _relations(stated: Reading):
             (c.action, flip_dir, False, dev_dir)]
 
 
+def _raw_reads(candidates: list[Candidate]):
+    """``read_numbers`` of every candidate with action active and direction parent-from-child.
+
+    Euler readings of the same numbers are built together: the elementary turns of each
+    (axis, slot, unit) once, then two matrix products per sequence (intrinsic ``Rp(a) Rq(b)
+    Rr(c)``, extrinsic ``Rr(c) Rq(b) Rp(a)``, the products of posekit.core.rotation).
+    """
+    out: list = [None] * len(candidates)
+    elementary: dict = {}
+    for i, c in enumerate(candidates):
+        r = c.reading
+        if r.rotation_kind != "euler":
+            out[i] = read_numbers(r, c.numbers, action="active", direction="parent-from-child")
+            continue
+        key = (id(c.numbers), r.position_first, r.convention.unit)
+        if key not in elementary:
+            rot_nums = c.numbers[..., 3:] if r.kind.startswith("position-") and r.position_first else \
+                (c.numbers[..., :-3] if r.kind.startswith("position-") else c.numbers)
+            ang = rot_nums * (np.pi / 180.0 if r.convention.unit == "degrees" else 1.0)
+            mats = {}
+            for axis in "xyz":
+                for slot in range(3):
+                    mats[axis, slot] = rot.elementary_matrix(axis, ang[..., slot])
+            trans = None if not r.kind.startswith("position-") else \
+                np.array(c.numbers[..., :3] if r.position_first else c.numbers[..., -3:], dtype=np.float64)
+            elementary[key] = (mats, trans)
+        mats, trans = elementary[key]
+        p, q, w = r.convention.axes_letters
+        if r.convention.intrinsic:
+            m = mats[p, 0] @ mats[q, 1] @ mats[w, 2]
+        else:
+            m = mats[w, 2] @ mats[q, 1] @ mats[p, 0]
+        out[i] = (m, None if trans is None else trans.copy())
+    return out
+
+
 def _best_separable(a_rot: np.ndarray, b_full: np.ndarray | None, top_n: int):
     """Exact ``top_n`` of ``A[c, p, q] + B[c, s, f, p]`` (``c`` a flattened leading index).
 
@@ -184,38 +222,43 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     rc = remap_cost(np.arange(n_remap))
     rels = _relations(stated)
     n_pairs = candidates[0].numbers.shape[0]
-    raws = [read_numbers(c.reading, c.numbers, action="active", direction="parent-from-child") for c in candidates]
+    raws = _raw_reads(candidates)
     has_t_obs = raws[0][1] is not None
     compare_t = has_t_obs and all(e.translation is not None for e in expected)
     k_n = len(candidates)
-    # rotation and translation of every (reading, relation) as the scorer compares them
+    # rotation and translation of every (reading, relation) as the scorer compares them (Slip.decode's steps)
+    m_all = np.stack([m for m, _ in raws])                                  # (K, N, 3, 3)
+    m_t = np.swapaxes(m_all, -1, -2)
+    param = np.array([c.reading.parameterised for c in candidates])[:, None, None, None]
     b_rot = np.empty((k_n, 3, n_pairs, 3, 3))
     t_rel = np.empty((k_n, 3, n_pairs, 3)) if has_t_obs else None
-    dev_k = np.empty(k_n)
-    sign_k = np.empty(k_n)
-    for k, (cand, (m, t)) in enumerate(zip(candidates, raws)):
-        for x, (action, direction, transposed, _) in enumerate(rels):
-            a = np.swapaxes(m, -1, -2) if action == "passive" and cand.reading.parameterised else m
-            if direction == "child-from-parent":
-                b_rot[k, x] = np.swapaxes(a, -1, -2)
-                if has_t_obs:
-                    t_rel[k, x] = -np.einsum("nba,nb->na", a, t)
-            else:
-                b_rot[k, x] = a
-                if has_t_obs:
-                    t_rel[k, x] = t
-            if transposed:  # the block as read is transposed, the translation is not (Slip.decode)
-                b_rot[k, x] = np.swapaxes(b_rot[k, x], -1, -2)
-        dev_k[k] = Slip(stated, cand.reading).deviations()
-        sign_k[k] = 1.0 if np.sum(np.sign(np.linalg.det(m))) >= 0 else -1.0
+    t_all = np.stack([t for _, t in raws]) if has_t_obs else None
+    for x, (action, direction, transposed, _) in enumerate(rels):
+        a = np.where(param, m_t, m_all) if action == "passive" else m_all
+        if direction == "child-from-parent":
+            b = np.swapaxes(a, -1, -2)
+            if has_t_obs:
+                t_rel[:, x] = -np.einsum("knba,knb->kna", a, t_all)
+        else:
+            b = a
+            if has_t_obs:
+                t_rel[:, x] = t_all
+        # the block as read is transposed, the translation is not
+        b_rot[:, x] = np.swapaxes(b, -1, -2) if transposed else b
+    dev_k = np.array([Slip(stated, c.reading).deviations() for c in candidates])
+    sign_k = np.where(np.sum(np.sign(np.linalg.det(m_all)), axis=1) >= 0, 1.0, -1.0)
     dev_x = np.array([r[3] for r in rels])
     b9 = b_rot.reshape(k_n, 3, n_pairs, 9)
     bb = np.sum(b9 * b9, axis=(2, 3))                                   # (K, 3)
     # only hypotheses that decode to a proper rotation: det(P) det(Q) det(B) = +1
     det_r = np.round(np.linalg.det(remaps))
-    proper_mask = (sign_k[:, None, None] * det_r[None, :, None] * det_r[None, None, :]) > 0   # (K, P, Q)
-    if not proper_mask.any():  # reflections left out and the numbers are a reflection: score what there is
-        proper_mask[:] = True
+    # the remaps' prior, with +inf where the decoded block would be improper, for each sign of det(B)
+    pq_prior = PRIOR_WEIGHT * (rc[:, None] + rc[None, :])                 # (P, Q)
+    same_sign = (det_r[:, None] * det_r[None, :]) > 0
+    pq_by_sign = {1.0: np.where(same_sign, pq_prior, np.inf), -1.0: np.where(same_sign, np.inf, pq_prior)}
+    if not reflections and np.all(sign_k < 0):  # reflections left out and the numbers are one: score what there is
+        pq_by_sign[-1.0] = pq_prior
+    pq_k = np.stack([pq_by_sign[float(v)] for v in sign_k])                # (K, P, Q)
     s_n = len(LENGTH_SCALES) if compare_t else 1
     f_n = len(TRANSLATION_FRAMES) if compare_t else 1
     dev_s = np.array([0.0, 1.0, 1.0])[:s_n]
@@ -231,11 +274,14 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
         w2 = np.ascontiguousarray(np.transpose(w, (0, 3, 1, 2, 4))).reshape(k_n * 3, 9, 9)  # [kx, (a, b), (c, d)]
         pf = remaps.reshape(n_remap, 9)
         g = (pf @ w2 @ pf.T).reshape(k_n, 3, n_remap, n_remap)          # (K, 3, P, Q)
-        chord2 = np.maximum(bb[:, :, None, None] + 3.0 * n_pairs - 2.0 * g, 0.0)
-        a_rot = (0.25 * chord2 / rotation_tolerance ** 2
-                 + PRIOR_WEIGHT * (dev_k[:, None, None, None] + dev_x[None, :, None, None] + rc[None, None, :, None]
-                                   + rc[None, None, None, :] + exp.deviations))
-        a_rot = np.where(proper_mask[:, None], a_rot, np.inf).reshape(k_n * 3, n_remap, n_remap)
+        # 0.25 chord^2 / sigma^2 + prior, in place: chord^2 = |B|^2 + 3N - 2 g
+        c1 = 0.25 / rotation_tolerance ** 2
+        a_rot = g
+        a_rot *= -2.0 * c1
+        a_rot += (c1 * (bb + 3.0 * n_pairs)
+                  + PRIOR_WEIGHT * (dev_k[:, None] + dev_x[None, :] + exp.deviations))[:, :, None, None]
+        a_rot += pq_k[:, None]
+        a_rot = a_rot.reshape(k_n * 3, n_remap, n_remap)
         b_full = None
         if compare_t:
             r_e, t_e = exp.rotation, exp.translation
@@ -288,7 +334,8 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
         dev = slip.deviations() + exp.deviations
         cost = float(np.sum(0.5 * (rr / rotation_tolerance) ** 2)
                      + (0.0 if tr is None else np.sum(0.5 * (tr / translation_tolerance) ** 2)) + PRIOR_WEIGHT * dev)
-        hyps.append(Hypothesis(slip, int(e_idx[j]), rr, tr, r_dec[j], None if t_dec is None else t_dec[j], cost, dev))
+        hyps.append(Hypothesis(slip, int(e_idx[j]), rr, tr, r_dec[j], None if t_dec is None else t_dec[j], cost, dev,
+                               int(k_i[j])))
     hyps.sort(key=lambda h: (h.cost, h.slip.order_key()))
     groups = _group(hyps, stated, candidates, limit)
     return Ranking(tuple(groups), n_scored, stated, n_pairs, compare_t)
@@ -297,14 +344,6 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
 @lru_cache(maxsize=4096)
 def _with_relation(reading: Reading, action: str, direction: str) -> Reading:
     return reading.with_fields(action=action, direction=direction)
-
-
-def _same_residuals(a: Hypothesis, b: Hypothesis) -> bool:
-    if np.max(np.abs(a.rotation_residuals - b.rotation_residuals)) > EQUIVALENT:
-        return False
-    if a.translation_residuals is None or b.translation_residuals is None:
-        return a.translation_residuals is None and b.translation_residuals is None
-    return bool(np.max(np.abs(a.translation_residuals - b.translation_residuals)) <= EQUIVALENT)
 
 
 _PROBE_SEED = 20261204
@@ -328,13 +367,23 @@ def _decode_probe(slip: Slip, probe: np.ndarray, cache: dict):
 
 
 def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate], limit: int) -> list[Group]:
+    # hypotheses whose residuals agree on every pair (to EQUIVALENT) against the same expected reading
+    res = np.stack([h.rotation_residuals for h in hyps])                     # (M, N)
+    close = np.max(np.abs(res[:, None] - res[None]), axis=-1) <= EQUIVALENT
+    if hyps[0].translation_residuals is not None:
+        tres = np.stack([h.translation_residuals for h in hyps])
+        close &= np.max(np.abs(tres[:, None] - tres[None]), axis=-1) <= EQUIVALENT
+    exp_i = np.array([h.expected for h in hyps])
+    close &= exp_i[:, None] == exp_i[None]
+    leaders: list[int] = []
     raw_groups: list[list[Hypothesis]] = []
-    for h in hyps:
-        for g in raw_groups:
-            if g[0].expected == h.expected and _same_residuals(g[0], h):
+    for j, h in enumerate(hyps):
+        for g, lead in zip(raw_groups, leaders):
+            if close[lead, j]:
                 g.append(h)
                 break
         else:
+            leaders.append(j)
             raw_groups.append([h])
     # named numbers are reordered per reading, so a random input cannot be pushed through every slip alike
     probe_ok = all(np.array_equal(c.numbers, candidates[0].numbers) for c in candidates)
@@ -346,16 +395,17 @@ def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate],
         lead = g[0]
         same, separable = [], []
         if probe is not None and len(g) > 1:
-            r0, t0 = _decode_probe(lead.slip, probe, read_cache)
-            for h in g[1:]:
-                r1, t1 = _decode_probe(h.slip, probe, read_cache)
-                diff = angles_between(r0, r1)
-                if t0 is not None and t1 is not None:
-                    diff = diff + np.linalg.norm(t0 - t1, axis=-1)
-                if np.max(diff) <= 1e-9:
+            decoded = [_decode_probe(h.slip, probe, read_cache) for h in g]
+            rs = np.stack([r for r, _ in decoded])                             # (G, 3, 3, 3)
+            diff = angles_between(np.broadcast_to(rs[0], rs[1:].shape), rs[1:])  # (G - 1, 3)
+            if decoded[0][1] is not None:
+                ts = np.stack([t for _, t in decoded])
+                diff = diff + np.linalg.norm(ts[1:] - ts[0], axis=-1)
+            for h, d in zip(g[1:], diff):
+                if np.max(d) <= 1e-9:
                     same.append(h)
                 else:
-                    separable.append((h, probe[int(np.argmax(diff))]))
+                    separable.append((h, probe[int(np.argmax(d))]))
         else:
             separable = [(h, None) for h in g[1:]]  # no probe: agreement beyond this sample is unknown
         out.append(Group(lead, tuple(same), tuple(separable)))
