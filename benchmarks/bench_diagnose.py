@@ -66,6 +66,35 @@ def one_pose():
           f"target <= 10 ms median: {'met' if grid <= 10 else 'NOT met'}")
 
 
+def slip_grid():
+    """Median over a generated grid: every reading kind x every field that gives it meaning, flipped
+    (single slips, the field stated or not) x 3 random poses; reflections on."""
+    from posekit.core.convention import CHOICES
+    from posekit.explain import FIELDS_OF_KIND, stated_reading, write_numbers
+    kinds = {"quaternion": 4, "euler": 3, "matrix": 9, "transform": 16, "position-quaternion": 7,
+             "position-euler": 6}
+    times, count = [], 0
+    for seed in range(3):
+        rot = Rotation.random(random_state=100 + seed)
+        r = rot.as_matrix()                                                   # scipy: the true pose
+        t = np.random.default_rng(seed).normal(size=3)
+        for kind, n in kinds.items():
+            for field in FIELDS_OF_KIND[kind]:
+                for stated_text in ("", f"{field}={CHOICES[field][0]}"):
+                    stated = stated_reading(n, kind, stated_text or None)
+                    other = next(v for v in CHOICES[field] if v != getattr(stated.convention, field))
+                    nums = write_numbers(stated.with_fields(**{field: other}), r[None], t[None])[0]
+                    expected = pk.make_transform(r, t) if stated.has_translation else r
+                    text = " ".join(f"{v:.9f}" for v in nums)
+                    times.append(_median_ms(lambda: diagnose(expected, text, assumed=stated_text or None,
+                                                             assumed_kind=kind), repeat=5))
+                    count += 1
+    med = statistics.median(times)
+    print(f"slip grid: {count} diagnoses (6 kinds x every field x stated or not x 3 poses), median of 5 each: "
+          f"median {med:.2f} ms, 90th percentile {np.percentile(times, 90):.2f} ms, slowest {max(times):.2f} ms; "
+          f"target <= 10 ms median: {'met' if med <= 10 else 'NOT met'}")
+
+
 def batch(n=10_000):
     rots = Rotation.random(n, random_state=3)
     t = np.random.default_rng(3).normal(size=(n, 3))
@@ -98,4 +127,5 @@ def batch(n=10_000):
 if __name__ == "__main__":
     print(f"posekit {pk.__version__}")
     one_pose()
+    slip_grid()
     batch()

@@ -323,18 +323,18 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     tr_all = None
     if compare_t:
         tr_all = np.sqrt(np.sum((t_dec - np.stack([e.translation for e in expected])[e_idx]) ** 2, axis=-1))
+    fit = np.sum(0.5 * (rr_all / rotation_tolerance) ** 2, axis=-1)
+    if tr_all is not None:
+        fit += np.sum(0.5 * (tr_all / translation_tolerance) ** 2, axis=-1)
     hyps = []
     for j in range(len(rows)):
         action, direction, transposed, _ = rels[x_i[j]]
         true = _with_relation(candidates[k_i[j]].reading, action, direction)
         slip = Slip(stated, true, transposed, int(p_i[j]), int(q_i[j]), float(LENGTH_SCALES[s_i[j]]),
                     TRANSLATION_FRAMES[f_i[j]])
-        exp = expected[int(e_idx[j])]
-        rr, tr = rr_all[j], None if tr_all is None else tr_all[j]
-        dev = slip.deviations() + exp.deviations
-        cost = float(np.sum(0.5 * (rr / rotation_tolerance) ** 2)
-                     + (0.0 if tr is None else np.sum(0.5 * (tr / translation_tolerance) ** 2)) + PRIOR_WEIGHT * dev)
-        hyps.append(Hypothesis(slip, int(e_idx[j]), rr, tr, r_dec[j], None if t_dec is None else t_dec[j], cost, dev,
+        dev = slip.deviations() + expected[e_idx[j]].deviations
+        hyps.append(Hypothesis(slip, int(e_idx[j]), rr_all[j], None if tr_all is None else tr_all[j], r_dec[j],
+                               None if t_dec is None else t_dec[j], float(fit[j] + PRIOR_WEIGHT * dev), dev,
                                int(k_i[j])))
     hyps.sort(key=lambda h: (h.cost, h.slip.order_key()))
     groups = _group(hyps, stated, candidates, limit)
