@@ -5,7 +5,7 @@ For each operation it prints posekit's best time, scipy.spatial.transform's best
 the operation must read and write divided by the copy bandwidth of this machine
 (measured with one big numpy copy), with posekit's ratio to that floor.
 
-Targets (issue 2): no operation slower than scipy, each within 5x of the memory floor,
+Targets: no operation slower than scipy, each within 5x of the memory floor,
 ``import posekit`` <= 0.3 s.  Run: ``PYTHONPATH=. python benchmarks/bench_core.py``.
 The script reports figures and flags misses; it never fails a test run.
 

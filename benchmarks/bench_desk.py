@@ -1,4 +1,4 @@
-"""Speed of the debugging desk (issue 8 target): from paste to explanations shown, kernel side.
+"""Speed of the debugging desk (target): from paste to explanations shown, kernel side.
 
 Target: <= 50 ms median for one pose.  The paste is simulated the way the page
 delivers it: the desk's Textarea ``value`` is set in-process, which runs the whole

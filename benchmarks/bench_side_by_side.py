@@ -49,7 +49,7 @@ def main() -> None:
           f"   ratio {position / reference:5.2f}")
     print(f"SingularityView, held angle moved (new sweep):    {held:7.3f} ms median"
           f"   ratio {held / reference:5.2f}")
-    print("issue 5 target for the explorer, for comparison:     3.000 ms median (kernel side)")
+    print("the explorer's target, for comparison:     3.000 ms median (kernel side)")
 
 
 if __name__ == "__main__":

@@ -6,7 +6,7 @@ and several combinations of two.  The injected error -- or an explanation that
 posekit reports as exactly equivalent for this sample -- must rank first; the
 corrected pose and the generated snippet must give back the truth (checked against
 scipy's matrix).  Remap matrices for ENU/NED, FLU/FRD and the optical frame are the
-common-practice ones listed in shared/design/conventions.md.
+common-practice ones listed in DEVELOPERS.md, "Outside sources".
 """
 
 from __future__ import annotations

@@ -7,7 +7,7 @@ vectorised over a batch.  Orientations are compared with :func:`posekit.angle_be
 
 The algebraic laws themselves (closure, identity, inverse, associativity, length
 preservation, R^-1 = R^T, q and -q the same rotation) are facts of the trade (common
-practice); the convention laws come from shared/design/conventions.md and the sources
+practice); the convention laws come from DEVELOPERS.md ("Outside sources") and the sources
 named beside them.
 """
 
@@ -30,7 +30,7 @@ from posekit.core.transforms import TRANSFORM_KINDS
 #: every test here runs on each kernel route of large batches (compiled loops and numpy)
 pytestmark = pytest.mark.usefixtures("kernel_route")
 
-ORIENTATION_TOL = 1e-12  # radians, the round-trip target of issue 2
+ORIENTATION_TOL = 1e-12  # radians, the round-trip target of the core
 TIGHT = 1e-13  # elementwise tolerance for matrices that should agree to float precision
 PARAMETERISED = tuple(k for k in KINDS if k != "matrix")  # kinds that ``action`` applies to
 

@@ -2,7 +2,7 @@
 
 Sources: scipy.spatial.transform (Rotation, RigidTransform, Slerp), transforms3d (an
 independent implementation), sympy (symbolic elementary rotations and quaternions),
-and the published examples and formulas of shared/references.md (values from memory
+and the published examples and formulas of DEVELOPERS.md "Outside sources" (values from memory
 where marked).
 """
 
@@ -234,7 +234,7 @@ def test_sympy_quaternion_matrix_and_product():
                            pk.quaternion_product(q, p), atol=1e-15)
 
 
-# --- published worked examples and formulas (shared/references.md) -------------------------
+# --- published worked examples and formulas (DEVELOPERS.md "Outside sources") -------------------------
 
 def test_craig_example_2_1():
     # Craig, Introduction to Robotics, 3rd ed., Example 2.1 (from memory): B turned 30 degrees about

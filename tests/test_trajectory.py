@@ -4,7 +4,7 @@ Facts used: scipy.spatial.transform.Rotation (magnitude of relative rotations) f
 rates; q and -q are one rotation (double cover; common practice); gimbal lock at
 middle angle ±90 degrees Tait-Bryan (common practice); a ground vehicle turns mostly
 about its vertical axis (common practice); ENU <-> NED remap and y-up frames as in
-/work/shared/design/conventions.md.  All trajectories here are invented test data;
+DEVELOPERS.md ("Outside sources").  All trajectories here are invented test data;
 the expected rows are where the faults were injected.
 """
 

@@ -23,7 +23,7 @@ __all__ = [
     "MotionPrior", "RejectedRow", "Span", "TrajectoryInputError", "TrajectoryReport", "TrajectoryTable",
     "check_trajectory", "check_trajectory_csv", "read_trajectory_csv",
 ]
-# paste parser and mismatch diagnosis (issue 4)
+# paste parser and mismatch diagnosis
 from .diagnose import (BatchDiagnosis, ConstantOffset, DescriptionError, Diagnosis, ExpectedPose, Explanation,
                        average_rotation, axis_remaps, describe_remap, diagnose, diagnose_batch, expected_pose,
                        pose_from_words)

@@ -4,7 +4,7 @@ The expected numbers come from posekit's analysis layer (sweep_one_angle, comput
 here in the test process) and posekit's core (write_rotation); they are compared with
 the data plotly.js holds in the page after the position slider moved by keyboard.
 Fact used: z-y-x (yaw, pitch, roll) locks at pitch 90 degrees -- ISO 1151-2 /
-ANSI/AIAA R-004-1992 (from memory, /work/shared/references.md); the sweep itself
+ANSI/AIAA R-004-1992 (from memory, DEVELOPERS.md "Outside sources"); the sweep itself
 says at which step the readback jumps.
 """
 
