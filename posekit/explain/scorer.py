@@ -83,7 +83,7 @@ class Hypothesis:
 
 @dataclass(frozen=True, eq=False)
 class Group:
-    """Hypotheses whose residuals agree on every pair: ``lead`` speaks for them.
+    """Hypotheses that decode the numbers to the same pose on every pair: ``lead`` speaks for them.
 
     ``same``: slips that give the lead's pose for *every* input (the same mistake
     written two ways); ``separable``: ``(hypothesis, numbers)`` pairs that agree on
@@ -337,7 +337,7 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
                                None if t_dec is None else t_dec[j], float(fit[j] + PRIOR_WEIGHT * dev), dev,
                                int(k_i[j])))
     hyps.sort(key=lambda h: (h.cost, h.slip.order_key()))
-    groups = _group(hyps, stated, candidates, limit)
+    groups = _group(hyps, stated, candidates, limit, rotation_tolerance, translation_tolerance)
     return Ranking(tuple(groups), n_scored, stated, n_pairs, compare_t)
 
 
@@ -366,7 +366,15 @@ def _decode_probe(slip: Slip, probe: np.ndarray, cache: dict):
     return slip.decode(probe, read=cache[slip.true])
 
 
-def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate], limit: int) -> list[Group]:
+def _same_pose(a: Hypothesis, b: Hypothesis) -> bool:
+    """The two slips decode the numbers to the same pose on every pair (to EQUIVALENT)."""
+    if np.max(np.abs(a.rotation - b.rotation)) > EQUIVALENT:
+        return False
+    return a.translation is None or b.translation is None or np.max(np.abs(a.translation - b.translation)) <= EQUIVALENT
+
+
+def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate], limit: int,
+           rotation_tolerance: float, translation_tolerance: float) -> list[Group]:
     # hypotheses whose residuals agree on every pair (to EQUIVALENT) against the same expected reading
     res = np.stack([h.rotation_residuals for h in hyps])                     # (M, N)
     close = np.max(np.abs(res[:, None] - res[None]), axis=-1) <= EQUIVALENT
@@ -379,12 +387,18 @@ def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate],
     raw_groups: list[list[Hypothesis]] = []
     for j, h in enumerate(hyps):
         for g, lead in zip(raw_groups, leaders):
-            if close[lead, j]:
+            # equal residuals are necessary; the same decoded pose on every pair is what groups them
+            if close[lead, j] and _same_pose(hyps[lead], h):
                 g.append(h)
                 break
         else:
             leaders.append(j)
             raw_groups.append([h])
+    # an explanation that fits within the tolerances always ranks before one that does not: the
+    # prior orders explanations the data allow, it never outvotes the tolerance
+    fits = [bool(g[0].rotation_rms <= rotation_tolerance and
+                 (g[0].translation_rms is None or g[0].translation_rms <= translation_tolerance)) for g in raw_groups]
+    raw_groups = [g for _, g in sorted(zip(fits, raw_groups), key=lambda fg: not fg[0])]
     # named numbers are reordered per reading, so a random input cannot be pushed through every slip alike
     probe_ok = all(np.array_equal(c.numbers, candidates[0].numbers) for c in candidates)
     probe = _probe_numbers(stated) if probe_ok else None
