@@ -663,3 +663,31 @@ def test_rover_demo_points_at_its_backwards_edge(make):
     assert [lp.consistent for lp in check.loops] == [False, True]
     assert check.fixes[0].corrected == g.edges[ROVER_BACKWARDS_EDGE].flipped()
     assert g.flipped(ROVER_BACKWARDS_EDGE).check_loops().consistent
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_a_mount_entered_in_the_optical_axes_is_named_by_the_loop_check(seed):
+    # the camera edge's child frame written in optical axes (x right, y down, z forward) instead of
+    # FLU body axes: the numbers are T_true @ diag(Q^T, 1), Q the optical-from-FLU remap (common practice,
+    # DEVELOPERS.md "Outside sources"); the loop check must name the child remap and restore the truth
+    optical = np.array([[0, -1, 0], [0, 0, -1], [1, 0, 0.0]])
+    g, place = _spatial_graph(seed + 60, n=6, extra=2)
+    on_loop = [i for i in range(len(g.edges)) if i not in g.check_loops().unchecked_edges]
+    target = on_loop[seed % len(on_loop)]
+    e = g.edges[target]
+    truth = place[e.parent].inv() * place[e.child]                       # scipy RigidTransform
+    written = truth.as_matrix().copy()
+    written[:3, :3] = written[:3, :3] @ optical.T                        # R_written = R_true Q with Q = optical^T
+    bad = g.replaced(target, Edge(e.parent, e.child, written, "matrix", None, e.source))
+    check = bad.check_loops()
+    assert not check.consistent
+    # a frame's axes are shared by every edge that touches it: the same remap on a neighbouring edge's
+    # side of that frame closes the loops equally, so the target's fix must be among the exact ones
+    exact = [f for f in check.fixes if f.score < 1e-6]
+    ours = [f for f in exact if f.edge == target and f.change == "child-remap"]
+    assert ours, check.summary()
+    fix = ours[0]
+    assert "child frame's axes are remapped" in fix.words and fix.words == sentence(fix.slip)
+    np.testing.assert_allclose(fix.corrected.transform, truth.as_matrix(), atol=1e-9)  # scipy RigidTransform
+    for f in exact:                                                      # every exact fix closes every loop
+        assert f.closes_all and bad.replaced(f.edge, f.corrected).check_loops().consistent

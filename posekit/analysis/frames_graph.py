@@ -57,7 +57,8 @@ from ..core.ops import angle_between
 from ..core.reading import as_convention, write_rotation
 from ..core.transforms import (TRANSFORM_KINDS, checked_transform, invert_transform, make_planar,
                                read_transform, write_transform)
-from ..explain import LENGTH_SCALES, Reading, Slip, readings_of, sentence, stated_fields, write_numbers
+from ..explain import (Candidate, ExpectedSide, Reading, Slip, readings_of, score, sentence,
+                       stated_fields, write_numbers)
 
 __all__ = [
     "SPATIAL_KINDS", "PLANAR_KINDS", "CHANGES",
@@ -79,14 +80,12 @@ PLANAR_KINDS = ("matrix", "position-heading")
 #: by the engine's prior and tie order (:meth:`~posekit.explain.Slip.deviations`,
 #: :meth:`~posekit.explain.Slip.order_key`).
 CHANGES = ("direction", "action", "layout", "scalar", "algebra", "unit", "sequence", "rotation-transpose",
-           "length-scale")
+           "length-scale", "translation-frame", "parent-remap", "child-remap")
 
 #: Family of a slip -> the fix's ``change`` name (families not listed keep their own name).
-_CHANGE_OF_FAMILY = {"axes": "sequence", "transposed": "rotation-transpose", "length_scale": "length-scale"}
-
-#: Length factors tried for a translation entered in other units: the engine's length
-#: scales (true metres per number read as metres), no scale left out.
-LENGTH_FACTORS = tuple(s for s in LENGTH_SCALES if s != 1.0)
+_CHANGE_OF_FAMILY = {"axes": "sequence", "transposed": "rotation-transpose", "length_scale": "length-scale",
+                     "translation_frame": "translation-frame", "parent_remap": "parent-remap",
+                     "child_remap": "child-remap"}
 
 DEFAULT_ANGLE_TOLERANCE = float(np.radians(0.5))
 DEFAULT_DISTANCE_TOLERANCE = 0.01
@@ -949,7 +948,16 @@ class FrameGraph:
             bad = {k for k, lp in enumerate(loops) if not lp.consistent}
             for ei in on_loop:
                 edge = self._edges[ei]
-                cands = _candidates(edge)
+                # the transform this edge would need to close each loop through it: the engine's pairs
+                targets = []
+                for _, steps in basis:
+                    pos = [j for j, s in enumerate(steps) if s.edge == ei]
+                    if pos:
+                        j = pos[0]
+                        need = invert_transform(self._product(steps[:j])) @ invert_transform(
+                            self._product(steps[j + 1:]))
+                        targets.append(invert_transform(need) if steps[j].inverted else need)
+                cands = _candidates(edge, np.stack(targets), self._atol, self._dtol)
                 if not cands:
                     continue
                 stack = np.stack([c.transform for c in cands])
@@ -1050,26 +1058,6 @@ def _engine_view(edge: Edge) -> tuple[Reading, np.ndarray, str]:
     return Reading(edge.kind, conv, stated, True, arr.size), arr, edge.kind
 
 
-def _slips(stated: Reading, tried: set[str]) -> list[Slip]:
-    """Every single slip of the stated reading the fix search tries, in no particular order."""
-    c = stated.convention
-    out = [Slip(stated, stated.with_fields(
-        direction="child-from-parent" if c.direction == "parent-from-child" else "parent-from-child"))]
-    if stated.parameterised:
-        out.append(Slip(stated, stated.with_fields(action="passive" if c.action == "active" else "active")))
-    for true in readings_of(stated):
-        if true.kind != stated.kind or true.position_first != stated.position_first:
-            continue  # the edge kinds have no rotation vector and no rotation-first order
-        slip = Slip(stated, true)
-        changed = {f for f, _, _ in slip.field_changes()}
-        if changed and changed <= tried and (len(changed) == 1 or changed <= {"sequence", "axes"}):
-            out.append(slip)
-    if stated.rotation_kind == "matrix":
-        out.append(Slip(stated, stated, transposed=True))
-    out += [Slip(stated, stated, length_scale=s) for s in LENGTH_FACTORS]
-    return out
-
-
 @dataclass(frozen=True)
 class _Candidate:
     """One slip of an edge, the fix's ``change`` name for it and the transform it decodes to."""
@@ -1118,21 +1106,48 @@ def _corrected_edge(edge: Edge, cand: _Candidate) -> Edge | None:
     return corrected
 
 
-def _candidates(edge: Edge) -> list[_Candidate]:
-    """Every single slip of ``edge`` that moves the transform, with the transform it decodes to.
+def _candidates(edge: Edge, targets: np.ndarray, atol: float, dtol: float) -> list[_Candidate]:
+    """The engine's best slips of ``edge`` against the transforms that would close its loops.
 
-    The slips are the engine's (:class:`posekit.explain.Slip`), stated = the edge's reading
-    with the fields its convention stated: the direction flipped; for quaternions and
-    angles the action flipped; one other value of each enumerated field of the kind
-    (scalar, algebra, unit, flat layout) and every other Euler sequence / axes pair; for
-    matrices the rotation block transposed on its own; the engine's length scales.
+    One call of :func:`posekit.explain.score`: the edge's stated reading (the fields its
+    convention stated), every reading of its numbers the edge kind can hold (the enumerated
+    fields of :data:`_FIELDS_TRIED`), and the scorer's own relations (direction, action, a
+    transposed block), parent and child axis remaps, length scales and translation frames;
+    each loop through the edge is one pair ``(targets[k], numbers)``, with the graph's
+    tolerances.  Each group's lead and the slips that are the same mistake written another way
+    come back with the transform they decode to; the caller re-closes the loops with it.
     """
     stated, numbers, key = _engine_view(edge)
+    tried = _FIELDS_TRIED[key]
+    readings = [r for r in readings_of(stated)
+                if r.kind == stated.kind and r.position_first == stated.position_first
+                and {f for f, _, _ in Slip(stated, r).field_changes()} <= tried]
+    n = len(targets)
+    if edge.planar:  # the engine reads SE(2) as SE(3) about z (see _engine_view)
+        full = np.tile(np.eye(4), (n, 1, 1))
+        full[:, :2, :2], full[:, :2, 3] = targets[:, :2, :2], targets[:, :2, 2]
+        targets = full
+    rows = np.repeat(numbers[None], n, axis=0)
+    side = ExpectedSide(targets[:, :3, :3], targets[:, :3, 3], 0.0, "the transform that closes the loop")
+    ranking = score(stated, [Candidate(r, rows) for r in readings], [side],
+                    rotation_tolerance=max(atol, 1e-12), translation_tolerance=max(dtol, 1e-12), limit=12)
     out: list[_Candidate] = []
-    for slip in _slips(stated, _FIELDS_TRIED[key]):
-        t = _decoded(slip, numbers, edge.planar)
-        if not np.all(np.isfinite(t)) or np.allclose(t, edge.transform, atol=1e-12, rtol=0):
-            continue  # reads to the same transform: not a change at all
-        fam = slip.families()[0]
-        out.append(_Candidate(slip, _CHANGE_OF_FAMILY.get(fam, fam), t))
-    return out
+    for g in ranking.groups:
+        members = (g.lead,) + g.same + tuple(x for x, _ in g.separable)
+        for h in members:
+            slip = h.slip
+            if slip.is_none or h.deviations > g.lead.deviations + 1:
+                continue
+            t = _decoded(slip, numbers, edge.planar)
+            if not np.all(np.isfinite(t)) or np.allclose(t, edge.transform, atol=1e-12, rtol=0):
+                continue  # reads to the same transform: not a change at all
+            fam = slip.families()[0]
+            out.append(_Candidate(slip, _CHANGE_OF_FAMILY.get(fam, fam), t))
+    # a slip that only adds, to another one giving the same transform, a part that changes nothing here
+    # (a length scale of a zero translation, say) says more than the numbers show: drop it
+    fams = [set(c.slip.families()) for c in out]
+    return [c for i, c in enumerate(out)
+            if not any(fams[j] < fams[i] and np.allclose(out[j].transform, c.transform, atol=1e-12, rtol=0)
+                       for j in range(len(out)))]
+
+
