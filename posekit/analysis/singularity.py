@@ -324,7 +324,7 @@ def readback_sensitivity(rotation, convention=None, step: float = 1e-6) -> Sensi
     moved = turns @ m[..., None, :, :]
     _, _, rad2 = _readback(moved, conv)
     d = rad2 - rad[..., None, :]
-    d = np.remainder(d + np.pi, 2 * np.pi) - np.pi
+    d = rot.wrap_signed(d)
     measured = np.max(np.sqrt(np.sum(d * d, axis=-1)), axis=-1) / step
     predicted = np.divide(1.0, gauge.gauge, out=np.full(gauge.gauge.shape, np.inf), where=gauge.gauge > 0)
     return Sensitivity(conv, float(step), predicted, measured)
@@ -350,17 +350,10 @@ def _fixed_sign(conv: Convention, pole_rad):
 
 
 def _wrap_outer(rad, conv: Convention):
-    out = np.remainder(rad + np.pi, 2 * np.pi) - np.pi
-    out = np.where(out <= -np.pi, out + 2 * np.pi, out)
-    if conv.wrap == "positive":
-        out = np.remainder(out, 2 * np.pi)
-        out = np.where(out >= 2 * np.pi, 0.0, out)
-    return out
+    return conv.wrapped(rad)
 
 
-def _wrap_signed(rad):
-    out = np.remainder(rad + np.pi, 2 * np.pi) - np.pi
-    return np.where(out <= -np.pi, out + 2 * np.pi, out)
+_wrap_signed = rot.wrap_signed
 
 
 @dataclass(frozen=True)

@@ -41,10 +41,11 @@ from types import MappingProxyType
 import numpy as np
 
 from ..core.checks import orthonormality_error
+from ..core.rotation import wrap_signed
 from ..core.convention import CHOICES, Convention
 from ..core.errors import PoseInputError, WrongShapeError, WrongTypeError
 from ..core.reading import as_convention, read_rotation, write_rotation
-from ..explain import Reading, Slip, read_numbers, readings_of, sentence, stated_fields
+from ..explain import Reading, Slip, read_numbers, sentence, stated_fields
 
 __all__ = [
     "TrajectoryInputError",
@@ -271,9 +272,7 @@ class TrajectoryReport:
     @property
     def euler_wrapped(self) -> np.ndarray:
         """The Euler angles as stored/read back: ``euler`` wrapped to (-half turn, half turn]."""
-        half = 180.0 if self.convention.degrees else np.pi
-        out = np.remainder(self.euler + half, 2 * half) - half
-        return np.where(out <= -half, out + 2 * half, out)
+        return wrap_signed(self.euler, 180.0 if self.convention.degrees else np.pi)
 
     def counts(self) -> dict[str, int]:
         """Number of flagged rows per finding, plus ``rejected``."""
@@ -669,7 +668,7 @@ def _motion_candidates(sub, kind, conv, stated, iv):
     numbers = sub.reshape(len(sub), -1)
     start = Reading(kind, conv, stated, count=numbers.shape[1])
     scored = []
-    for reading in readings_of(start)[1:]:
+    for reading in start.alternatives():
         slip = Slip(start, reading)
         changes = slip.field_changes()
         if slip.kind_changed or any(f == "unit" or (nested and f == "layout") for f, _, _ in changes):

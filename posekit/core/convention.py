@@ -41,7 +41,9 @@ from dataclasses import dataclass, fields, replace
 from functools import lru_cache
 
 from .errors import ConventionError, ConventionTextError
-from .rotation import PROPER_EULER, SEQUENCES, TAIT_BRYAN
+import numpy as np
+
+from .rotation import PROPER_EULER, SEQUENCES, TAIT_BRYAN, wrap_signed
 
 __all__ = ["Convention", "CHOICES", "DEFAULT"]
 
@@ -124,6 +126,32 @@ class Convention:
     @property
     def is_tait_bryan(self) -> bool:
         return self.axes_letters in TAIT_BRYAN
+
+    def wrapped(self, radians):
+        """Angles ``(...)`` in radians wrapped to this convention's range: ``(-pi, pi]`` (signed) or
+        ``[0, 2 pi)`` (positive).  The one place the ``wrap`` choice is applied.
+
+        >>> Convention(wrap="positive").wrapped([-0.5]).round(6).tolist()
+        [5.783185]
+        """
+        out = wrap_signed(radians)
+        if self.wrap == "positive":
+            out = np.remainder(out, 2.0 * np.pi)
+            out = np.where(out >= 2.0 * np.pi, 0.0, out)
+        return out
+
+    def alternatives(self, fields=None) -> tuple["Convention", ...]:
+        """Every convention one field away (each other value of each field in ``fields``, default all),
+        in ``CHOICES`` order.
+
+        >>> [c.to_text().split()[4] for c in Convention().alternatives(["scalar"])]
+        ['scalar=last']
+        """
+        names = list(CHOICES) if fields is None else list(fields)
+        unknown = set(names) - set(CHOICES)
+        if unknown:
+            raise ConventionError(f"unknown convention field(s) {sorted(unknown)}; known fields: {', '.join(CHOICES)}")
+        return tuple(replace(self, **{f: v}) for f in names for v in CHOICES[f] if v != getattr(self, f))
 
     def changed(self, **settings) -> "Convention":
         """A copy with some fields changed: ``c.changed(unit="degrees")``."""

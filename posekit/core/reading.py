@@ -165,11 +165,11 @@ def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: 
 
 
 def _wrap_out(angles, conv: Convention, outer: tuple[int, ...]):
+    """The outer angles (radians, already signed) put in the convention's range (``Convention.wrapped``)."""
     if conv.wrap == "positive":
         angles = angles.copy()
         for i in outer:
-            angles[..., i] = np.remainder(angles[..., i], 2.0 * np.pi)
-            angles[..., i] = np.where(angles[..., i] >= 2.0 * np.pi, 0.0, angles[..., i])
+            angles[..., i] = conv.wrapped(angles[..., i])
     return angles
 
 
@@ -229,10 +229,7 @@ def write_rotation(matrix, kind: str = "quaternion", convention=None, *, flat: b
             raise WrongShapeError(f"planar-angle: the rotation is not a turn about z (it tilts the z axis by up "
                                   f"to {worst:.6g} degrees); only turns about z can be written as a planar angle")
         a = 2.0 * np.arctan2(q[..., 3], q[..., 0])
-        a = rot._wrap(a)
-        if conv.wrap == "positive":
-            a = np.remainder(a, 2.0 * np.pi)
-        return a / scale
+        return conv.wrapped(a) / scale
     raise AssertionError(kind)
 
 

@@ -43,6 +43,7 @@ __all__ = [
     "quaternion_of_euler",
     "euler_of_quaternion",
     "euler_of_matrix",
+    "wrap_signed",
     "quaternion_of_rotvec",
     "rotvec_of_quaternion",
     "elementary_matrix",
@@ -447,11 +448,18 @@ def _wrap_near(a):
     return np.where(a <= -np.pi, a + 2.0 * np.pi, a)
 
 
-def _wrap(a):
-    """Wrap to (-pi, pi]."""
+def wrap_signed(a, half=np.pi):
+    """Wrap angles to ``(-half, half]`` (radians by default; ``half=180`` for degrees): ``(...) -> (...)``.
+
+    The one signed wrap of posekit (the ``wrap=signed`` choice of a convention).
+
+    >>> wrap_signed([np.pi, -np.pi, 3 * np.pi / 2]).round(6).tolist()
+    [3.141593, 3.141593, -1.570796]
+    """
     a = np.asarray(a, dtype=np.float64)
-    out = np.remainder(a + np.pi, 2.0 * np.pi) - np.pi
-    return np.where(out <= -np.pi, out + 2.0 * np.pi, out)
+    out = np.remainder(a + half, 2.0 * half) - half
+    return np.where(out <= -half, out + 2.0 * half, out)
+
 
 
 def quaternion_of_rotvec(v):

@@ -197,7 +197,7 @@ def interpolate_planar(a, b, t) -> np.ndarray:
     xa, ya, ha = planar_parts(a)
     xb, yb, hb = planar_parts(b)
     t = np.asarray(t, dtype=np.float64)
-    dh = rot._wrap(hb - ha)
+    dh = rot.wrap_signed(hb - ha)
     return make_planar(xa + (xb - xa) * t, ya + (yb - ya) * t, ha + dh * t)
 
 

@@ -127,6 +127,10 @@ class Reading:
         """The shortest convention text that gives these numbers this meaning (only non-default fields)."""
         return " ".join(f"{k}={v}" for k, v in self.fields().items() if getattr(DEFAULT, k) != v)
 
+    def alternatives(self) -> tuple["Reading", ...]:
+        """Every other reading of the same numbers (:func:`readings_of` without this one)."""
+        return readings_of(self)[1:]
+
     def with_fields(self, **settings) -> "Reading":
         return replace(self, convention=self.convention.changed(**settings))
 
