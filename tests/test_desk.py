@@ -62,7 +62,7 @@ def test_explanation_list_equals_diagnose(desk):
     for label, e in zip(labels, ref.explanations):
         assert label.startswith(f"{e.rank}. {e.sentence}")
         assert f"{math.degrees(e.rotation_residual):.3g}°" in label
-        assert ("give the same numbers" in label) == bool(e.equivalents)
+        assert ("the same mistake written" in label) == bool(e.equivalents)
         assert ("near tie" in label) == e.near_tie
     assert ref.best.sentence == "The quaternion was written scalar-last but read scalar-first."
     assert desk.code_box.value == ref.best.code

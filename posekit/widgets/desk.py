@@ -88,7 +88,11 @@ def _numbers_text(arr) -> str:
 def _marks(e, batch: bool) -> str:
     out = []
     if e.equivalents:
-        out.append(f"{len(e.equivalents)} other{'s' if len(e.equivalents) > 1 else ''} give the same numbers")
+        n = len(e.equivalents)
+        out.append(f"the same mistake written {n} other way{'s' if n > 1 else ''}")
+    if e.separable:
+        out.append("another sample would separate it from " + (f"{len(e.separable)} others" if len(e.separable) > 1
+                                                               else "one other"))
     if e.near_tie:
         out.append("near tie")
     return "".join(f"  [{m}]" for m in out)
@@ -576,7 +580,8 @@ class DebugDesk(w.VBox):
         if e.near_tie:
             marks += "<span class='pk-mark pk-mark-tie'>near tie: the prior, not the data, decided the order</span>"
         verdict = "pk-ok" if d.explained else "pk-bad"
-        parts = [f"<div class='{verdict}'>{html.escape(d.verdict)}</div>" if e.rank == 1 else "",
+        said = e.rank == 1 and d.verdict != e.sentence  # an explained slip's verdict is its sentence, shown below
+        parts = [f"<div class='{verdict}'>{html.escape(d.verdict)}</div>" if said else "",
                  f"<div class='pk-words'>observed {html.escape(d.assumed_reading)}</div>",
                  f"<div class='pk-words'>{html.escape(d.expected_reading)}</div>",
                  f"<div class='pk-sentence'>{html.escape(e.sentence)}</div>",
