@@ -273,7 +273,8 @@ def pose_from_words(text: str) -> ExpectedPose:
     if not seen_any:
         fail("nothing to read", 0)
     r = rot.matrix_of_quaternion(rot.quaternion_of_matrix(r))
-    return ExpectedPose(r, t, f"described: {text.strip()}")
+    return ExpectedPose(r, t, f"described: {text.strip()}",
+                        f"expected: described: {text.strip()} (forward-left-up body axes, turns in the order written)")
 
 
 
@@ -379,8 +380,7 @@ def expected_pose(value, kind: str | None = None, convention=None) -> ExpectedPo
             value, unit_word = m.group("body"), m.group("unit")
             unit_word = "degrees" if unit_word.startswith("deg") or unit_word == "°" else "radians"
         elif re.search(r"[A-Za-z]{3,}", value) and not re.search(r"array|[:=\[{]", value):
-            p = pose_from_words(value)
-            return replace(p, reading=f"expected: {p.source} (forward-left-up body axes, turns in the order written)")
+            return pose_from_words(value)
         parsed = parse_numbers(value)
         if parsed.names:
             return _named_expected(parsed, conv, convention, value)
