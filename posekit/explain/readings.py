@@ -180,8 +180,8 @@ def stated_reading(count: int, kind: str | None = None, convention=None, stated=
                    position_first: bool = True) -> Reading:
     """The reading the user stated for ``count`` numbers (kind by count unless given).
 
-    ``convention``: text (its keys are the stated fields), a Convention (fields off the
-    default are stated), a :class:`Reading` (returned as is) or None.  ``stated``
+    ``convention``: text (its keys are the stated fields; blank text states nothing), a
+    Convention (fields off the default are stated), a :class:`Reading` (returned as is) or None.  ``stated``
     overrides the stated field set.
 
     >>> stated_reading(4, convention="scalar=last").said_back().split(";")[1]
@@ -189,6 +189,8 @@ def stated_reading(count: int, kind: str | None = None, convention=None, stated=
     """
     if isinstance(convention, Reading):
         return convention
+    if isinstance(convention, str) and not convention.strip():
+        convention = None  # blank text states nothing (and, in diagnose, keeps the expected side's from applying)
     kind = kind or _DEFAULT_KIND.get(count)
     if kind is None:
         raise PoseInputError(f"reading: no pose kind has {count} numbers; accepted counts: "
