@@ -1,5 +1,5 @@
 # posekit: the two set-up commands of the README live here.
-#   make demo   - create/reuse .venv, install posekit with its extras, open JupyterLab on the tour notebook
+#   make demo   - create/reuse .venv, install posekit with its extras, open JupyterLab on a fresh copy of the tour (.demo/)
 #   make demo-terminal - the same set-up, then a short demo of the core printed to the terminal
 #   make test   - create/reuse .venv, install everything (and Debian's chromium if missing), run all tests
 #   make bench  - run the benchmark scripts and print their figures
@@ -11,7 +11,7 @@ STAMP  := $(VENV)/.posekit-installed
 
 .PHONY: install demo demo-terminal test bench clean
 
-$(STAMP): pyproject.toml posekit/core/_loops.c
+$(STAMP): pyproject.toml setup.py posekit/core/_loops.c
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
 	$(BIN)/python -m pip install --quiet -e '.[notebook,test]'
@@ -20,7 +20,7 @@ $(STAMP): pyproject.toml posekit/core/_loops.c
 install: $(STAMP)
 
 demo: $(STAMP)
-	$(BIN)/python -m posekit.cli tour
+	$(BIN)/python -m posekit.cli tour --folder .demo
 
 demo-terminal: $(STAMP)
 	$(BIN)/python -m posekit.demo
@@ -33,4 +33,4 @@ bench: $(STAMP)
 	@for f in benchmarks/bench_*.py; do echo "== $$f"; $(BIN)/python $$f || exit 1; done
 
 clean:
-	rm -rf $(VENV) .pytest_cache .hypothesis build *.egg-info
+	rm -rf $(VENV) .pytest_cache .hypothesis build dist *.egg-info .demo

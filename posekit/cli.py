@@ -6,14 +6,16 @@ Verbs::
     posekit diagnose --expected-file FILE --observed-file FILE [options]   # one pose per line
     posekit convert NUMBERS --to-kind KIND [--from-kind KIND] [--from CONV] [--to CONV]
     posekit check NUMBERS
-    posekit tour
+    posekit tour [--folder DIR] [--print-command]
+    posekit notebook NAME [--folder DIR]        # or: posekit notebook --list
 
 Every NUMBERS / TEXT argument is pasted text as :func:`posekit.analysis.parse_numbers`
 reads it, or ``-`` to read standard input.  Convention arguments use posekit's text
 form (``Convention.parse``), e.g. ``"scalar=last"`` or ``"sequence=x-y-z axes=extrinsic
 unit=degrees"``.  ``--json`` prints one JSON object instead of text.  Exit status: 0 on
-success, 2 for bad input (the message goes to standard error), 3 when the tour cannot
-start.
+success, 1 when ``diagnose`` finds no single slip that explains the numbers within the
+tolerances, 2 for bad input (the message goes to standard error), 3 when the tour cannot
+start (JupyterLab is not installed: the message names the extra to install).
 """
 
 from __future__ import annotations
@@ -73,9 +75,14 @@ def build_parser() -> argparse.ArgumentParser:
     k.add_argument("numbers", help="numbers as pasted, or - for standard input")
     k.add_argument("--json", action="store_true", help="print JSON")
 
-    tour = sub.add_parser("tour", help="open the notebook tour (or run the terminal demo when there is none)")
+    tour = sub.add_parser("tour", help="copy the notebook tour into a folder of yours and open it in JupyterLab")
+    tour.add_argument("--folder", default=".", help="where the fresh copy goes (default: the working folder)")
     tour.add_argument("--print-command", action="store_true",
-                      help="print the command that would open the tour, and do not run it")
+                      help="copy the tour, print the command that would open it, and do not run it")
+    nb = sub.add_parser("notebook", help="copy a notebook posekit ships (e.g. the bug-report template) into a folder")
+    nb.add_argument("name", nargs="?", help="which notebook: tour, bug-report-template, convention-walkthrough")
+    nb.add_argument("--folder", default=".", help="where the fresh copy goes (default: the working folder)")
+    nb.add_argument("--list", action="store_true", help="list the notebooks posekit ships")
     return p
 
 
@@ -188,24 +195,37 @@ def _check(args) -> tuple[dict, str]:
     return parsed.as_dict(), parsed.summary()
 
 
-def _tour(print_only: bool = False) -> int:
-    here = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-    found = [p for p in (os.path.join(os.getcwd(), "notebooks", "tour.ipynb"),
-                         os.path.join(here, "notebooks", "tour.ipynb")) if os.path.exists(p)]
-    if found:
-        notebook = found[0]
-        cmd = [sys.executable, "-m", "jupyter", "lab", notebook]
-        if hasattr(os, "geteuid") and os.geteuid() == 0:
-            cmd.append("--allow-root")
-        if shutil.which("jupyter") is None and not _has_module("jupyterlab"):
-            print("posekit: error: the notebook tour needs jupyterlab; install posekit[notebook]", file=sys.stderr)
-            return 3
-    else:
-        cmd = [sys.executable, "-m", "posekit.demo"]
+def _tour(folder: str, print_only: bool = False) -> int:
+    """Copy the tour into ``folder`` (never editing the shipped one) and open it in JupyterLab."""
+    from .notebook_files import copy_notebook
+
+    if shutil.which("jupyter") is None and not _has_module("jupyterlab"):
+        print("posekit tour: error: the notebook tour needs JupyterLab, which is not installed here; install it "
+              "with: pip install \"posekit[notebook]\" (or run 'python -m posekit.demo' for a terminal demo)",
+              file=sys.stderr)
+        return 3
+    notebook = copy_notebook("tour", folder)
+    cmd = [sys.executable, "-m", "jupyter", "lab", str(notebook)]
+    if hasattr(os, "geteuid") and os.geteuid() == 0:
+        cmd.append("--allow-root")
     if print_only:
         print(" ".join(cmd))
         return 0
+    print(f"posekit tour: wrote a fresh copy of the tour to {notebook}; opening JupyterLab", file=sys.stderr)
     return subprocess.call(cmd)
+
+
+def _notebook(args) -> tuple[dict, str]:
+    from .notebook_files import copy_notebook, shipped_notebooks
+
+    if args.list or not args.name:
+        names = list(shipped_notebooks())
+        if not args.list:
+            raise PoseInputError("notebook: name the notebook to copy; posekit ships: " + ", ".join(names))
+        return {"notebooks": names}, "\n".join(names)
+    path = copy_notebook(args.name, args.folder)
+    return ({"copied": str(path)},
+            f"wrote a fresh copy to {path}\nopen it with: {sys.executable} -m jupyter lab {path}")
 
 
 def _has_module(name: str) -> bool:
@@ -221,11 +241,15 @@ def main(argv=None) -> int:
     args = parser.parse_args(argv)
     try:
         if args.verb == "tour":
-            return _tour(args.print_command)
-        handler = {"diagnose": _diagnose, "convert": _convert, "check": _check}[args.verb]
+            return _tour(args.folder, args.print_command)
+        handler = {"diagnose": _diagnose, "convert": _convert, "check": _check, "notebook": _notebook}[args.verb]
         data, text, *found = handler(args)
     except PoseInputError as exc:
         print(f"posekit {args.verb}: error: {exc}", file=sys.stderr)
+        return 2
+    except OSError as exc:  # a folder that cannot be written: say which, no traceback
+        print(f"posekit {args.verb}: error: could not write the copy: {exc.strerror or exc} "
+              f"({exc.filename or 'the folder given'}); choose a folder you can write with --folder", file=sys.stderr)
         return 2
     try:
         print(json.dumps(data, indent=2) if getattr(args, "json", False) else text)

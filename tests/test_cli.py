@@ -135,13 +135,47 @@ def test_main_is_importable_and_returns_codes(capsys):
     assert "no pose representation" in capsys.readouterr().err
 
 
-def test_tour_opens_jupyterlab_on_the_tour_notebook():
+def test_tour_copies_the_tour_and_opens_jupyterlab_on_the_copy(tmp_path):
     import os
 
-    proc = run("tour", "--print-command")
+    shipped = ROOT / "notebooks" / "tour.ipynb"
+    before = shipped.read_bytes()
+    proc = run("tour", "--folder", str(tmp_path), "--print-command")
     assert proc.returncode == 0, proc.stderr
-    assert "-m jupyter lab" in proc.stdout and proc.stdout.strip().split()[4].endswith("notebooks/tour.ipynb")
+    copied = tmp_path / "posekit-tour.ipynb"
+    assert copied.read_bytes() == before and proc.stdout.split()[4] == str(copied)
+    assert "-m jupyter lab" in proc.stdout
     assert ("--allow-root" in proc.stdout) == (os.geteuid() == 0)  # JupyterLab refuses root without it
+    again = run("tour", "--folder", str(tmp_path), "--print-command")   # a second copy never overwrites the first
+    assert again.stdout.split()[4] == str(tmp_path / "posekit-tour-2.ipynb")
+    assert shipped.read_bytes() == before
+
+
+def test_tour_without_jupyterlab_names_the_extra(monkeypatch, capsys, tmp_path):
+    from posekit import cli
+
+    monkeypatch.setattr(cli.shutil, "which", lambda name: None)
+    monkeypatch.setattr(cli, "_has_module", lambda name: False)
+    assert cli.main(["tour", "--folder", str(tmp_path)]) == 3
+    assert 'pip install "posekit[notebook]"' in capsys.readouterr().err
+    assert not list(tmp_path.iterdir())                               # nothing written when it cannot open
+
+
+def test_notebook_verb_copies_any_shipped_notebook(tmp_path, capsys):
+    from posekit.cli import main
+
+    assert main(["notebook", "--list"]) == 0
+    listed = capsys.readouterr().out.split()
+    assert listed == sorted(p.stem for p in (ROOT / "notebooks").glob("*.ipynb"))
+    assert main(["notebook", "bug-report-template.ipynb", "--folder", str(tmp_path / "new")]) == 0
+    copied = tmp_path / "new" / "posekit-bug-report-template.ipynb"
+    assert copied.read_bytes() == (ROOT / "notebooks" / "bug-report-template.ipynb").read_bytes()
+    assert main(["notebook", "bug report"]) == 2
+    err = capsys.readouterr().err
+    assert "no shipped notebook is called 'bug report'" in err and "bug-report-template" in err
+    (tmp_path / "file").write_text("x")
+    assert main(["notebook", "tour", "--folder", str(tmp_path / "file")]) == 2
+    assert "is a file, not a folder" in capsys.readouterr().err
 
 
 def test_terminal_demo_runs():

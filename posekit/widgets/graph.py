@@ -48,8 +48,10 @@ def _edge_label(graph: FrameGraph, i: int) -> str:
 class GraphExplorer(w.VBox):
     """Browse a frame graph: the transform between any two frames, and every edge's reading.
 
-    >>> from posekit.analysis.scenarios import orchard_rover  # doctest: +SKIP
-    >>> GraphExplorer(orchard_rover(), from_frame="camera", into_frame="world", root="base")  # doctest: +SKIP
+    >>> from posekit.analysis.scenarios import orchard_rover   # demo data
+    >>> view = GraphExplorer(orchard_rover(), from_frame="camera", into_frame="world", root="base")
+    >>> view.from_frame, view.into_frame
+    ('camera', 'world')
     """
 
     graph = t.Instance(FrameGraph)
