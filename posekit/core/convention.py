@@ -45,7 +45,7 @@ import numpy as np
 
 from .rotation import PROPER_EULER, SEQUENCES, TAIT_BRYAN, wrap_signed
 
-__all__ = ["Convention", "CHOICES", "DEFAULT"]
+__all__ = ["Convention", "CHOICES", "DEFAULT", "TOUCHES"]
 
 #: The accepted values of every field, in display order.
 CHOICES: dict[str, tuple[str, ...]] = {
@@ -58,6 +58,22 @@ CHOICES: dict[str, tuple[str, ...]] = {
     "action": ("active", "passive"),
     "direction": ("parent-from-child", "child-from-parent"),
     "layout": ("row-major", "column-major"),
+}
+
+#: Which kinds of numbers each field gives meaning to; every other kind ignores it.  The one
+#: statement of it: the explanation engine derives the fields of each reading from here.  A
+#: written-out matrix is already a map, so ``action`` does not touch it; ``wrap`` shapes only
+#: the angles posekit writes back.
+TOUCHES: dict[str, tuple[str, ...]] = {
+    "sequence": ("euler",),
+    "axes": ("euler",),
+    "unit": ("euler", "rotation-vector", "axis-angle", "planar-angle"),
+    "wrap": (),
+    "scalar": ("quaternion",),
+    "algebra": ("quaternion",),
+    "action": ("quaternion", "euler", "rotation-vector", "axis-angle", "planar-angle"),
+    "direction": ("matrix", "transform", "quaternion", "euler", "rotation-vector", "axis-angle", "planar-angle"),
+    "layout": ("matrix", "transform"),
 }
 
 _FIELD_HELP = {

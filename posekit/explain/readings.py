@@ -25,7 +25,7 @@ from functools import lru_cache
 import numpy as np
 
 from ..core import rotation as rot
-from ..core.convention import CHOICES, DEFAULT, Convention
+from ..core.convention import CHOICES, DEFAULT, TOUCHES, Convention
 from ..core.errors import ConventionError, PoseInputError
 from ..core.reading import as_convention, write_rotation
 from ..core.transforms import make_transform, write_transform
@@ -38,17 +38,9 @@ COUNTS = {"quaternion": (4,), "euler": (3,), "rotation-vector": (3,), "matrix": 
           "position-quaternion": (7,), "position-euler": (6,), "position-rotation-vector": (6,)}
 KINDS = tuple(COUNTS)
 
-#: The convention fields that give each kind of numbers its meaning (the others change nothing).
-#: A written-out matrix is already a map, so ``action`` does not apply to it (posekit.core.reading).
-FIELDS_OF_KIND = {
-    "quaternion": ("scalar", "algebra", "action", "direction"),
-    "euler": ("sequence", "axes", "unit", "action", "direction"),
-    "rotation-vector": ("unit", "action", "direction"),
-    "matrix": ("layout", "direction"),
-    "transform": ("layout", "direction"),
-}
-for _k in ("quaternion", "euler", "rotation-vector"):
-    FIELDS_OF_KIND["position-" + _k] = FIELDS_OF_KIND[_k]
+#: The convention fields that give each kind of numbers its meaning, in ``CHOICES`` order, derived
+#: from ``posekit.core.convention.TOUCHES`` (a position kind has its rotation part's fields).
+FIELDS_OF_KIND = {kind: tuple(f for f in CHOICES if kind.replace("position-", "") in TOUCHES[f]) for kind in COUNTS}
 
 #: Fields that the numbers themselves can be read under in several ways (the engine
 #: enumerates their values); ``action`` and ``direction`` are scored as relations instead.
