@@ -38,6 +38,7 @@ from ..core.transforms import Pose, read_transform
 from ..explain import (PRIOR_WEIGHT, REMAPS, STATED_COST, Candidate, ExpectedSide, Reading, describe_remap,
                        fix_code, readings_of, score, sentence, stated_fields, stated_reading, write_numbers)
 from ..explain.readings import read_numbers
+from ..explain.scorer import det3
 from .parse import Interpretation, NoInterpretationError, ParsedNumbers, parse_numbers
 
 __all__ = ["PRIOR_WEIGHT", "PRIOR_TEXT", "DescriptionError", "ExpectedPose", "Explanation", "Diagnosis",
@@ -549,7 +550,8 @@ class Explanation:
                 "another_sample_would_separate": [{"sentence": s, "separating_numbers": None if n is None else list(n)}
                                                   for s, n in self.separable],
                 "near_tie": self.near_tie, "handedness_flip": self.handedness_flip,
-                "expected_reading": self.expected_reading, "members": [dict(m) for m in self.members]}
+                "expected_reading": self.expected_reading, "members": [dict(m) for m in self.members],
+                "slip": None if self.slip is None else self.slip.as_dict()}
 
 
 def _plain(nums):
@@ -558,14 +560,15 @@ def _plain(nums):
 
 def _member(slip) -> dict:
     """One slip of a group as plain data: the reading's own fields (``reading``, only those off the
-    default), the relation, remaps, frame and scale, then everything :meth:`Slip.as_dict` says."""
+    default), the relation, remaps, frame and scale, its deviations and field changes."""
     reading = " ".join(f"{k}={v}" for k, v in slip.true.fields().items()
                        if k not in ("action", "direction") and getattr(DEFAULT, k) != v)
     return {"reading": reading, "kind": slip.true.kind, "position_first": slip.true.position_first,
             "relation": _relation(slip), "parent_remap": REMAPS[slip.parent_remap].astype(int).tolist(),
             "child_remap": REMAPS[slip.child_remap].astype(int).tolist(),
             "translation_frame": slip.translation_frame, "length_scale": slip.length_scale,
-            "deviations": slip.deviations(), "slip": slip.as_dict()}
+            "deviations": slip.deviations(), "changes": [list(c) for c in slip.field_changes()],
+            "rotation_block_transposed": slip.transposed, "handedness_flip": slip.improper}
 
 
 def _relation(slip) -> str:
@@ -579,9 +582,8 @@ def _relation(slip) -> str:
 
 def _rounded(values: np.ndarray) -> tuple:
     v = np.where(np.abs(values) < 5e-16, 0.0, values)  # no "-0" or 1e-17 float noise in numbers people paste
-    if v.ndim == 1:
-        return tuple(float(x) for x in v)
-    return tuple(tuple(float(x) for x in row) for row in v)
+    v = v + 0.0                                          # -0.0 -> 0.0
+    return tuple(v.tolist()) if v.ndim == 1 else tuple(map(tuple, v.tolist()))
 
 
 def _corrected(h, stated: Reading, numbers):
@@ -592,7 +594,7 @@ def _corrected(h, stated: Reading, numbers):
     """
     r, t = h.slip.decode(numbers)
     err = orthonormality_error(r)
-    project = bool(np.max(err) > ORTHONORMAL_TOLERANCE or np.any(np.linalg.det(r) < 0))
+    project = bool(np.max(err) > ORTHONORMAL_TOLERANCE or np.any(det3(r) < 0))
     if project:
         u, _, vt = np.linalg.svd(r)
         d = np.sign(np.linalg.det(u @ vt))

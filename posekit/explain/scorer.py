@@ -105,6 +105,12 @@ class Ranking:
     compared_translation: bool
 
 
+def det3(m) -> np.ndarray:
+    """Determinants of ``(..., 3, 3)`` matrices by the triple product (no LU per matrix)."""
+    m = np.asarray(m)
+    return np.einsum("...i,...i->...", m[..., 0, :], np.cross(m[..., 1, :], m[..., 2, :]))
+
+
 def angles_between(a, b) -> np.ndarray:
     """Geodesic angle between orthogonal ``(..., 3, 3)`` matrices (either may be improper).
 
@@ -112,7 +118,7 @@ def angles_between(a, b) -> np.ndarray:
     (common practice).  Improper (a mirror is no rotation): the trace formula, >= 90 degrees.
     """
     rel = np.swapaxes(np.asarray(a), -1, -2) @ np.asarray(b)
-    det = np.linalg.det(rel)
+    det = det3(rel)
     proper = det > 0
     out = np.empty(rel.shape[:-2])
     if np.any(proper):
@@ -246,7 +252,7 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
         # the block as read is transposed, the translation is not
         b_rot[:, x] = np.swapaxes(b, -1, -2) if transposed else b
     dev_k = np.array([Slip(stated, c.reading).deviations() for c in candidates])
-    sign_k = np.where(np.sum(np.sign(np.linalg.det(m_all)), axis=1) >= 0, 1.0, -1.0)
+    sign_k = np.where(np.sum(np.sign(det3(m_all)), axis=1) >= 0, 1.0, -1.0)
     dev_x = np.array([r[3] for r in rels])
     b9 = b_rot.reshape(k_n, 3, n_pairs, 9)
     bb = np.sum(b9 * b9, axis=(2, 3))                                   # (K, 3)
