@@ -39,7 +39,7 @@ def test_diagnose_json_names_the_scalar_order():
     best = data["explanations"][0]
     assert best["sentence"] == "The quaternion was written scalar-last but read scalar-first."
     assert best["rotation_residual_degrees"] < 1e-6
-    assert data["hypotheses_scored"] == 4 * 3 * 48 * 48      # readings x relations x remaps (reflections too)
+    assert data["hypotheses_scored"] == 4 * 4 * 48 * 48      # readings x relations x remaps (reflections too)
     assert np.allclose(best["corrected_rotation"], ROT.as_matrix(), atol=1e-8)  # scipy: as_matrix
     assert "prior" in data and data["near_tie"] is False
 

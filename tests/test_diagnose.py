@@ -177,9 +177,9 @@ def test_the_issue_example_sentence():
     d = diagnose(rot.as_matrix(), _text(_q_last(rot)))
     assert d.best.sentence == "The quaternion was written scalar-last but read scalar-first."
     assert d.best.deviations == 1
-    # 4 readings of the four numbers x 3 relations (as stated, rotation transposed, inverse) x 48 x 48
+    # 4 readings of the four numbers x 4 relations (as stated, rotation transposed, inverse, both) x 48 x 48
     # remaps: reflections are always scored
-    assert d.hypotheses_scored == 4 * 3 * 48 * 48
+    assert d.hypotheses_scored == 4 * 4 * 48 * 48
 
 
 def test_jpl_and_transpose_are_reported_indistinguishable():
@@ -217,7 +217,7 @@ def test_reflection_is_noted_without_the_option_and_counted_with_it():
     assert plain.best.rotation_residual > math.radians(30) and not plain.explained
     flip = diagnose(rot.as_matrix(), obs)          # reflections are scored by default
     assert flip.best.handedness_flip and "handedness flip" in flip.best.sentence.lower()
-    assert flip.hypotheses_scored == 2 * 3 * 48 * 48
+    assert flip.hypotheses_scored == 2 * 4 * 48 * 48
 
 
 def test_assumed_convention_changes_the_sentence():

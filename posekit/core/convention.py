@@ -108,6 +108,13 @@ class Convention:
     direction: str = "parent-from-child"
     layout: str = "row-major"
 
+    def __hash__(self) -> int:  # hashed on every ranking of the explanation engine: computed once
+        h = self.__dict__.get("_hash")
+        if h is None:
+            h = hash(tuple(getattr(self, f.name) for f in fields(self)))
+            object.__setattr__(self, "_hash", h)
+        return h
+
     def __post_init__(self):
         seq = self.sequence
         if isinstance(seq, str) and re.fullmatch(r"[xyz]{3}", seq):

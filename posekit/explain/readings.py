@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import itertools
 import re
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field, fields, replace
 from functools import lru_cache
 
 import numpy as np
@@ -82,6 +82,13 @@ class Reading:
     stated: frozenset = field(default_factory=frozenset)
     position_first: bool = True
     count: int = 0
+
+    def __hash__(self) -> int:  # hashed on every ranking (caches of the prior and tie order): computed once
+        h = self.__dict__.get("_hash")
+        if h is None:
+            h = hash(tuple(getattr(self, f.name) for f in fields(self)))
+            object.__setattr__(self, "_hash", h)
+        return h
 
     def __post_init__(self):
         if self.kind not in COUNTS:

@@ -2,7 +2,7 @@
 
 Hypotheses: every candidate true reading of the numbers (:func:`readings_of`) x
 relation (as stated; the rotation transposed -- the ``action`` field for angles and
-quaternions, the block alone for matrices; the ``direction`` field flipped) x parent
+quaternions, the block alone for matrices; the ``direction`` field flipped; both) x parent
 remap x child remap (48 x 48 with reflections) x length scale x translation frame x
 each reading of the expected side.  Scoring is vectorised over hypotheses x pairs:
 
@@ -83,7 +83,8 @@ class Hypothesis:
 
 @dataclass(frozen=True, eq=False)
 class Group:
-    """Hypotheses that decode the numbers to the same pose on every pair: ``lead`` speaks for them.
+    """Hypotheses that decode the numbers to the same pose on every pair: ``lead`` speaks for them
+    (members that claim more than one deviation beyond the lead's are left out).
 
     ``same``: slips that give the lead's pose for *every* input (the same mistake
     written two ways); ``separable``: ``(hypothesis, numbers)`` pairs that agree on
@@ -135,7 +136,9 @@ def _flip(value: str, choices: tuple[str, str]) -> str:
 
 
 def _relations(stated: Reading):
-    """The three relations as (action, direction, transposed, deviations) relative to the stated reading."""
+    """The four relations as (action, direction, transposed, deviations) relative to the stated reading:
+    as stated; the rotation transposed (the ``action`` field of angles and quaternions, the block
+    alone of a matrix); the ``direction`` flipped; both."""
     c = stated.convention
     flip_dir = _flip(c.direction, ("parent-from-child", "child-from-parent"))
     dev_dir = STATED_COST if "direction" in stated.stated else 1.0
@@ -143,9 +146,9 @@ def _relations(stated: Reading):
         flip_act = _flip(c.action, ("active", "passive"))
         dev_act = STATED_COST if "action" in stated.stated else 1.0
         return [(c.action, c.direction, False, 0.0), (flip_act, c.direction, False, dev_act),
-                (c.action, flip_dir, False, dev_dir)]
+                (c.action, flip_dir, False, dev_dir), (flip_act, flip_dir, False, dev_act + dev_dir)]
     return [(c.action, c.direction, False, 0.0), (c.action, c.direction, True, 1.0),
-            (c.action, flip_dir, False, dev_dir)]
+            (c.action, flip_dir, False, dev_dir), (c.action, flip_dir, True, 1.0 + dev_dir)]
 
 
 def _raw_reads(candidates: list[Candidate]):
@@ -236,8 +239,9 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     m_all = np.stack([m for m, _ in raws])                                  # (K, N, 3, 3)
     m_t = np.swapaxes(m_all, -1, -2)
     param = np.array([c.reading.parameterised for c in candidates])[:, None, None, None]
-    b_rot = np.empty((k_n, 3, n_pairs, 3, 3))
-    t_rel = np.empty((k_n, 3, n_pairs, 3)) if has_t_obs else None
+    x_n = len(rels)
+    b_rot = np.empty((k_n, x_n, n_pairs, 3, 3))
+    t_rel = np.empty((k_n, x_n, n_pairs, 3)) if has_t_obs else None
     t_all = np.stack([t for _, t in raws]) if has_t_obs else None
     for x, (action, direction, transposed, _) in enumerate(rels):
         a = np.where(param, m_t, m_all) if action == "passive" else m_all
@@ -254,8 +258,8 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     dev_k = np.array([Slip(stated, c.reading).deviations() for c in candidates])
     sign_k = np.where(np.sum(np.sign(det3(m_all)), axis=1) >= 0, 1.0, -1.0)
     dev_x = np.array([r[3] for r in rels])
-    b9 = b_rot.reshape(k_n, 3, n_pairs, 9)
-    bb = np.sum(b9 * b9, axis=(2, 3))                                   # (K, 3)
+    b9 = b_rot.reshape(k_n, x_n, n_pairs, 9)
+    bb = np.sum(b9 * b9, axis=(2, 3))                                   # (K, X)
     # only hypotheses that decode to a proper rotation: det(P) det(Q) det(B) = +1
     det_r = np.round(np.linalg.det(remaps))
     # the remaps' prior, with +inf where the decoded block would be improper, for each sign of det(B)
@@ -276,10 +280,10 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
         r9 = exp.rotation.reshape(n_pairs, 9)
         # W[k, x, (b, c), (a, d)] = sum_i R_i[b, c] B_i[a, d]; g = sum P_ab R_bc Q_cd B_ad = (P W' Q^T)
         # with W'[(a, b), (c, d)]: two small matrix products instead of a six-index sum
-        w = np.einsum("nj,kxnl->kxjl", r9, b9, optimize=True).reshape(k_n * 3, 3, 3, 3, 3)   # [kx, b, c, a, d]
-        w2 = np.ascontiguousarray(np.transpose(w, (0, 3, 1, 2, 4))).reshape(k_n * 3, 9, 9)  # [kx, (a, b), (c, d)]
+        w = np.einsum("nj,kxnl->kxjl", r9, b9, optimize=True).reshape(k_n * x_n, 3, 3, 3, 3)   # [kx, b, c, a, d]
+        w2 = np.ascontiguousarray(np.transpose(w, (0, 3, 1, 2, 4))).reshape(k_n * x_n, 9, 9)  # [kx, (a, b), (c, d)]
         pf = remaps.reshape(n_remap, 9)
-        g = (pf @ w2 @ pf.T).reshape(k_n, 3, n_remap, n_remap)          # (K, 3, P, Q)
+        g = (pf @ w2 @ pf.T).reshape(k_n, x_n, n_remap, n_remap)        # (K, X, P, Q)
         # 0.25 chord^2 / sigma^2 + prior, in place: chord^2 = |B|^2 + 3N - 2 g
         c1 = 0.25 / rotation_tolerance ** 2
         a_rot = g
@@ -287,7 +291,7 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
         a_rot += (c1 * (bb + 3.0 * n_pairs)
                   + PRIOR_WEIGHT * (dev_k[:, None] + dev_x[None, :] + exp.deviations))[:, :, None, None]
         a_rot += pq_k[:, None]
-        a_rot = a_rot.reshape(k_n * 3, n_remap, n_remap)
+        a_rot = a_rot.reshape(k_n * x_n, n_remap, n_remap)
         b_full = None
         if compare_t:
             r_e, t_e = exp.rotation, exp.translation
@@ -295,14 +299,14 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
             v = np.stack([t_e, local, -local])                                 # (F, N, 3)
             cmat = np.einsum("kxna,fnb->kxfab", t_rel, v, optimize=True)
             cross = np.einsum("pab,kxfab->kxfp", remaps, cmat, optimize=True)  # sum_i t_i . P v_i
-            tt = np.sum(t_rel * t_rel, axis=(2, 3))                            # (K, 3)
+            tt = np.sum(t_rel * t_rel, axis=(2, 3))                            # (K, X)
             vv = np.sum(v * v, axis=(1, 2))                                    # (F,)
             sse = (sc[None, None, :, None, None] ** 2 * tt[:, :, None, None, None]
                    - 2.0 * sc[None, None, :, None, None] * cross[:, :, None]
-                   + vv[None, None, None, :, None])                            # (K, 3, S, F, P)
+                   + vv[None, None, None, :, None])                            # (K, X, S, F, P)
             b_full = (0.5 * np.maximum(sse, 0.0) / translation_tolerance ** 2
                       + PRIOR_WEIGHT * (dev_s[:, None, None] + dev_f[None, :, None])).reshape(
-                k_n * 3, s_n, f_n, n_remap)
+                k_n * x_n, s_n, f_n, n_remap)
         rows, costs = _best_separable(a_rot, b_full, keep)
         rows_all.append(rows)
         cost_all.append(costs)
@@ -310,13 +314,13 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     rows = np.concatenate(rows_all)
     e_idx = np.concatenate(e_all)
     order = np.argsort(np.concatenate(cost_all), kind="stable")[:keep]
-    n_scored = int(len(expected) * k_n * 3 * n_remap * n_remap * s_n * f_n)
+    n_scored = int(len(expected) * k_n * x_n * n_remap * n_remap * s_n * f_n)
 
     # exact residuals of the short list, vectorised: decode from the arrays already read
     rows = rows[order]
     e_idx = e_idx[order]
     c_i, s_i, f_i, p_i, q_i = rows.T
-    k_i, x_i = np.divmod(c_i, 3)
+    k_i, x_i = np.divmod(c_i, x_n)
     pm, qm = remaps[p_i], remaps[q_i]
     r_dec = np.swapaxes(pm, -1, -2)[:, None] @ b_rot[k_i, x_i] @ np.swapaxes(qm, -1, -2)[:, None]   # (M, N, 3, 3)
     t_dec = None
@@ -355,14 +359,18 @@ def _with_relation(reading: Reading, action: str, direction: str) -> Reading:
 _PROBE_SEED = 20261204
 
 
+@lru_cache(maxsize=256)
 def _probe_numbers(stated: Reading) -> np.ndarray:
-    """Three fixed random poses written under the stated reading: the inputs that tell slips apart."""
+    """Three fixed random poses written under the stated reading: the inputs that tell slips apart
+    (read-only; remembered per reading)."""
     rng = np.random.default_rng(_PROBE_SEED)
     q = rng.normal(size=(3, 4))
     q /= np.linalg.norm(q, axis=1, keepdims=True)
     r = rot.matrix_of_quaternion(q)
     t = rng.normal(size=(3, 3)) if stated.has_translation else None
-    return write_numbers(stated, r, t)
+    out = write_numbers(stated, r, t)
+    out.setflags(write=False)
+    return out
 
 
 def _decode_probe(slip: Slip, probe: np.ndarray, cache: dict):
@@ -392,27 +400,32 @@ def _group(hyps: list[Hypothesis], stated: Reading, candidates: list[Candidate],
     leaders: list[int] = []
     raw_groups: list[list[Hypothesis]] = []
     for j, h in enumerate(hyps):
-        for g, lead in zip(raw_groups, leaders):
-            # equal residuals are necessary; the same decoded pose on every pair is what groups them
-            if close[lead, j] and _same_pose(hyps[lead], h):
-                g.append(h)
+        # equal residuals are necessary; the same decoded pose on every pair is what groups them
+        for g_i in np.flatnonzero(close[leaders, j]) if leaders else ():
+            if _same_pose(hyps[leaders[g_i]], h):
+                raw_groups[g_i].append(h)
                 break
         else:
             leaders.append(j)
             raw_groups.append([h])
     # an explanation that fits within the tolerances always ranks before one that does not: the
     # prior orders explanations the data allow, it never outvotes the tolerance
-    fits = [bool(g[0].rotation_rms <= rotation_tolerance and
-                 (g[0].translation_rms is None or g[0].translation_rms <= translation_tolerance)) for g in raw_groups]
-    raw_groups = [g for _, g in sorted(zip(fits, raw_groups), key=lambda fg: not fg[0])]
+    lead_rms = np.sqrt(np.mean(res[leaders] ** 2, axis=-1))
+    fits = lead_rms <= rotation_tolerance
+    if hyps[0].translation_residuals is not None:
+        fits &= np.sqrt(np.mean(tres[leaders] ** 2, axis=-1)) <= translation_tolerance
+    raw_groups = [raw_groups[i] for i in np.argsort(~fits, kind="stable")]
     # named numbers are reordered per reading, so a random input cannot be pushed through every slip alike
-    probe_ok = all(np.array_equal(c.numbers, candidates[0].numbers) for c in candidates)
+    first = candidates[0].numbers
+    probe_ok = all(c.numbers is first or np.array_equal(c.numbers, first) for c in candidates)
     probe = _probe_numbers(stated) if probe_ok else None
     read_cache: dict = {}
     out = []
     for g in raw_groups[:limit]:
         g = sorted(g, key=lambda h: (h.deviations, h.slip.order_key()))
         lead = g[0]
+        # members claiming more than one mistake beyond the lead's say more than the numbers show
+        g = [h for h in g if h.deviations <= lead.deviations + 1]
         same, separable = [], []
         if probe is not None and len(g) > 1:
             decoded = [_decode_probe(h.slip, probe, read_cache) for h in g]

@@ -35,7 +35,7 @@ from __future__ import annotations
 
 import itertools
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from functools import lru_cache
 
 import numpy as np
@@ -168,6 +168,13 @@ class Slip:
     child_remap: int = 0
     length_scale: float = 1.0
     translation_frame: str = "parent"
+
+    def __hash__(self) -> int:  # hashed on every ranking (caches of the prior and tie order): computed once
+        h = self.__dict__.get("_hash")
+        if h is None:
+            h = hash(tuple(getattr(self, f.name) for f in fields(self)))
+            object.__setattr__(self, "_hash", h)
+        return h
 
     # --- what it claims ----------------------------------------------------------------
     def field_changes(self) -> tuple[tuple[str, str, str], ...]:
