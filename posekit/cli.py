@@ -103,6 +103,9 @@ def _read_lines(path: str, what: str) -> np.ndarray:
     except OSError as exc:
         raise PoseInputError(f"{what}: cannot read file {path!r} ({exc.strerror}); expected a text file with one "
                              "pose per line") from None
+    except UnicodeDecodeError as exc:
+        raise PoseInputError(f"{what}: file {path!r} is not UTF-8 text (byte 0x{exc.object[exc.start]:02x} at offset "
+                             f"{exc.start}); save it as UTF-8, one pose per line") from None
     if not lines:
         raise PoseInputError(f"{what}: file {path!r} holds no poses; expected one pose per line")
     rows = []

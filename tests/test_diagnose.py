@@ -370,10 +370,15 @@ def test_named_observed_components_are_diagnosed():
     text = (f"position:\n  x: {t[0]:.9f}\n  y: {t[1]:.9f}\n  z: {t[2]:.9f}\norientation:\n"
             f"  x: {q[0]:.9f}\n  y: {q[1]:.9f}\n  z: {q[2]:.9f}\n  w: {q[3]:.9f}")
     d = diagnose(_h(rot, t), text)
-    # the names fix which number is w, so the scalar position is no slip: only the transpose is
-    assert any(_matches(m, _member("", relation="rotation-transposed")) for m in d.best.members) or \
-        any(_matches(m, _member("algebra=jpl")) for m in d.best.members)
+    # the names fix which number is w (typed last here, so said back and corrected scalar-last): the
+    # scalar position is no slip, only the transpose is
+    assert "(x, y, z, w)" in d.assumed_reading
+    assert any(_matches(m, _member("scalar=last", relation="rotation-transposed")) for m in d.best.members) or \
+        any(_matches(m, _member("scalar=last algebra=jpl")) for m in d.best.members)
     assert "scalar" not in d.best.sentence  # the names fixed where w sits: not a mistake
+    got = np.asarray(d.best.corrected_numbers)
+    assert np.allclose(got[:3], t, atol=1e-8)
+    assert min(np.abs(got[3:] - s * rot.as_quat()).max() for s in (1, -1)) < 1e-8   # scipy: x, y, z, w as typed
     scope = {}
     exec(d.best.code, scope)  # posekit's own generated code
     assert np.allclose(scope["R"], rot.as_matrix(), atol=1e-6) and np.allclose(scope["t"], t, atol=1e-6)

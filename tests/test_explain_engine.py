@@ -123,3 +123,83 @@ def test_a_stated_direction_is_honoured_on_a_transform():
     assert plain.best.sentence.startswith("The numbers are child-from-parent")
     back = pk.read_transform(plain.best.corrected_numbers, "matrix")
     assert np.allclose(back, truth, atol=1e-9)
+
+
+# --- cases a user found wrong (each reproduced from outside posekit, with scipy) -------------------
+
+def test_a_scaled_matrix_is_refused_not_called_correct():
+    # a rotation scaled by 0.5 (a similarity, not a rotation): no convention explains it
+    r = Rotation.from_euler("z", 30, degrees=True).as_matrix()             # scipy
+    with pytest.raises(pk.NotOrthonormalError, match="no convention explains"):
+        diagnose("yawed 30 degrees left", _text(0.5 * r))
+    with pytest.raises(pk.NotOrthonormalError):
+        diagnose("level", "1 2 3 4 5 6 7 8 9")
+
+
+@pytest.mark.parametrize("observed", ["0 0 0 0", "1e-300 0 0 0", "0 0 0 0 0 0 0"])
+def test_a_zero_quaternion_is_a_typed_error(observed):
+    with pytest.raises(pk.ZeroQuaternionError, match="zero length"):
+        diagnose("level", observed)
+
+
+def test_degrees_read_as_radians_is_named_even_against_a_stated_unit():
+    # yaw-pitch-roll typed by name in degrees; the same numbers pasted as the observed Euler angles,
+    # read as radians because the user said so: the stated unit is the slip
+    d = diagnose("yaw=70 pitch=51 roll=-153", "70 51 -153", assumed="unit=radians")
+    assert d.explained and d.best.sentence == "The angles were written in degrees but read as radians (stated)."
+    truth = Rotation.from_euler("ZYX", [70, 51, -153], degrees=True).as_matrix()   # scipy: intrinsic z-y-x
+    assert np.allclose(pk.read_rotation(d.best.corrected_numbers, "euler", "unit=radians"), truth, atol=1e-9)
+
+
+def test_a_verdict_never_hides_a_deviation_of_the_expected_side():
+    # the observed quaternion is the turn of yaw-pitch-roll (70, 51, -153) in radians: the only way to
+    # match is to read the expected angles as radians, which their size makes unlikely -- the verdict says so
+    q = Rotation.from_euler("ZYX", [70, 51, -153]).as_quat(scalar_first=True)  # scipy: radians, intrinsic
+    d = diagnose("yaw=70 pitch=51 roll=-153", _text(q))
+    assert d.explained and "no convention error" not in d.verdict
+    assert "meant in radians" in d.verdict
+
+
+def test_two_explanations_that_both_fit_are_a_near_tie():
+    # identity expected, (0 0 0 1) observed with scalar=first stated: scalar-last fits, and so does a
+    # 180-degree turn of the parent axes read as stated -- the prior decides, and says so
+    d = diagnose("level", "0 0 0 1", assumed="scalar=first")
+    assert d.explained and d.near_tie and d.as_dict()["near_tie"]
+    assert d.best.sentence == "The quaternion was written scalar-last but read scalar-first (stated)."
+    assert any("remapped" in s for s, _ in d.best.separable)   # listed: fits these numbers, another sample tells
+
+
+def test_named_quaternion_components_are_said_back_and_corrected_in_the_order_typed():
+    rot = Rotation.from_euler("z", -90, degrees=True)                          # scipy
+    q = rot.as_quat()                                                            # x, y, z, w
+    text = (f"position:\n  x: -2.0\n  y: 1.0\n  z: 0.5\norientation:\n  x: {q[0]:.9f}\n  y: {q[1]:.9f}\n"
+            f"  z: {q[2]:.9f}\n  w: {q[3]:.9f}")
+    truth = pk.make_transform(rot.as_matrix(), [-2.0, 1.0, 0.5])
+    d = diagnose(pk.Pose(truth), text)
+    assert "(x, y, z, w)" in d.assumed_reading and d.best.deviations == 0
+    got = np.asarray(d.best.corrected_numbers)
+    assert min(np.abs(got - np.r_[-2.0, 1.0, 0.5, s * q]).max() for s in (1, -1)) < 1e-8
+
+
+def test_an_expected_matrix_printed_with_six_digits_is_read_not_refused():
+    truth = Rotation.from_euler("ZYX", [-139.3, -28.1, -17.0], degrees=True)  # scipy
+    t = np.array([-0.35, -1.06, -1.33])
+    m = pk.make_transform(truth.as_matrix(), t)
+    printed = " ".join(f"{v:.6f}" for v in m.ravel())
+    d = diagnose(printed, _text([*t, *truth.as_quat()]))                    # scipy: logged scalar-last
+    assert d.explained and "scalar-last" in d.best.sentence
+    assert "nearest rotation" in d.expected_reading
+
+
+def test_the_expected_kind_is_honoured_for_named_values():
+    rv = np.array([1.2, -0.3, 0.5])
+    q = Rotation.from_rotvec(rv).as_quat(scalar_first=True)                     # scipy: rotation vector
+    d = diagnose("rx=1.2 ry=-0.3 rz=0.5", _text(q), expected_kind="rotation-vector")
+    assert d.explained and d.best.deviations == 0 and "rotation vector" in d.expected_reading
+
+
+def test_the_expected_side_convention_is_used_but_not_stated_for_the_observed_numbers():
+    rot = Rotation.random(random_state=8)                                      # scipy
+    d = diagnose(_text(rot.as_quat()), _text(rot.as_quat()), expected_convention="scalar=last")
+    assert d.best.deviations == 0 and "stating nothing" in d.assumed_reading
+    assert "you stated no field" in d.assumed_reading

@@ -53,16 +53,16 @@ NAMED = ("enu-ned", "flu-frd", "optical")  # the optical map is named both ways 
 
 
 def remap_deviations(m: np.ndarray) -> float:
-    """The documented remap prior: 0 none, 1 named, 1.5 other proper, 2 one mirrored axis, 3 other reflection."""
+    """The documented remap prior: 0 none, 1 named, 2.5 other proper, 3 one mirrored axis, 4 other reflection."""
     if np.array_equal(m, np.eye(3)):
         return 0.0
     if any(np.array_equal(m, REMAP[n]) or np.array_equal(m, REMAP[n].T) for n in NAMED):
         return 1.0
     if np.linalg.det(m) > 0:
-        return 1.5
+        return 2.5
     if np.array_equal(np.abs(m), np.eye(3)) and np.sum(np.diag(m) < 0) == 1:
-        return 2.0
-    return 3.0
+        return 3.0
+    return 4.0
 
 
 def remap_index(m: np.ndarray) -> int:

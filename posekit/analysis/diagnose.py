@@ -30,9 +30,9 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..core import rotation as rot
-from ..core.checks import ORTHONORMAL_TOLERANCE, as_numbers, checked_matrix, orthonormality_error
+from ..core.checks import ORTHONORMAL_TOLERANCE, as_numbers, checked_matrix, nearest_rotation, orthonormality_error
 from ..core.convention import DEFAULT, Convention
-from ..core.errors import PoseInputError, WrongShapeError
+from ..core.errors import NotOrthonormalError, PoseInputError, WrongShapeError, ZeroQuaternionError
 from ..core.reading import as_convention, read_rotation, write_rotation  # noqa: F401 (doctest)
 from ..core.transforms import Pose, read_transform
 from ..explain import (PRIOR_WEIGHT, REMAPS, STATED_COST, Candidate, ExpectedSide, Reading, describe_remap,
@@ -48,7 +48,7 @@ __all__ = ["PRIOR_WEIGHT", "PRIOR_TEXT", "DescriptionError", "ExpectedPose", "Ex
 PRIOR_TEXT = (f"each deviation from the stated reading costs {PRIOR_WEIGHT:g} (prior exp(-{PRIOR_WEIGHT:g} k)): 1 per "
               f"field you did not state, {STATED_COST:g} per field you stated, 1 per other kind of numbers, position "
               "order, transposed rotation block, translation frame or length unit; a remap 1 if named (ENU/NED, "
-              "FLU/FRD, optical), 1.5 other proper, 2 a single mirrored axis, 3 other reflection; cost = sum over "
+              "FLU/FRD, optical), 2.5 other proper, 3 a single mirrored axis, 4 other reflection; cost = sum over "
               "pairs of 0.5 (rotation residual / rotation tolerance)^2 + 0.5 (translation residual / translation "
               "tolerance)^2, plus 3 k once; exact ties go to the fixed family order direction, action, layout, "
               "scalar, algebra, unit, axes, sequence, kind, order, transpose, length, frame, remaps")
@@ -289,12 +289,25 @@ def _angle_part(kind: str, arr: np.ndarray) -> np.ndarray:
     return arr[..., 3:] if kind.startswith("position-") else arr
 
 
+#: Deviations charged for reading unstated expected angles in the other unit: radians for magnitudes
+#: beyond 2 pi is implausible (more than a stated field's contradiction), degrees for small ones is a
+#: plain deviation (common practice: code keeps radians, people type degrees).
+_OTHER_UNIT_COST = {"radians": 3.0, "degrees": 1.0}
+
+
+def _unit_alternative(other: str) -> tuple[float, str]:
+    why = " (their size says degrees)" if other == "radians" else ""
+    return _OTHER_UNIT_COST[other], f"the expected angles were meant in {other}{why}"
+
+
 def _plausible_unit(angles: np.ndarray) -> str:
     """Degrees when some magnitude exceeds 2 pi (no one writes more than a turn in radians), else radians."""
     return "degrees" if angles.size and float(np.max(np.abs(angles))) > 2 * math.pi else "radians"
 
 
 def _read_expected(arr: np.ndarray, kind: str, conv: Convention):
+    if kind in ("transform", "matrix"):
+        return _read_expected_matrix(arr, kind, conv)
     if kind in ("transform", "position-quaternion", "position-euler"):
         m = read_transform(arr, "matrix" if kind == "transform" else kind, conv)
         return m[..., :3, :3], m[..., :3, 3]
@@ -303,6 +316,27 @@ def _read_expected(arr: np.ndarray, kind: str, conv: Convention):
         t = arr[..., :3].copy()
         return _inverted(r, t) if conv.direction == "child-from-parent" else (r, t)
     return read_rotation(arr, kind, conv), None
+
+
+def _read_expected_matrix(arr: np.ndarray, kind: str, conv: Convention):
+    """A written-out matrix read as posekit reads it, except that printed digits (off orthonormal by up
+    to ``PRINTED_DIGITS``) are projected onto the nearest rotation (Higham 1986) instead of refused."""
+    strict = read_transform if kind == "transform" else read_rotation
+    try:
+        m = strict(arr, "matrix", conv)
+    except NotOrthonormalError:
+        flat = arr.reshape(arr.shape[:-2] + (-1,)) if arr.ndim >= 2 and arr.shape[-2:] in ((4, 4), (3, 4), (3, 3)) \
+            else arr
+        if arr.ndim >= 2 and arr.shape[-2:] in ((4, 4), (3, 4), (3, 3)):
+            conv = conv.changed(layout="row-major")          # nested rows are rows as printed
+        n = flat.shape[-1]
+        reading = Reading("transform" if n in (12, 16) else "matrix", conv, count=n)
+        r, t = read_numbers(reading, flat)
+        if np.max(orthonormality_error(r)) > PRINTED_DIGITS:
+            strict(arr, "matrix", conv.changed(layout=reading.convention.layout))   # raises the typed error
+        projected = nearest_rotation(r).rotation
+        return projected, t
+    return (m[..., :3, :3], m[..., :3, 3]) if kind == "transform" else (m, None)
 
 
 def _inverted(r, t):
@@ -342,8 +376,14 @@ def _numbers_reading(arr: np.ndarray, kind: str | None, convention, unit_word: s
                else "magnitudes within 2 pi fit radians")
         unit_note = f"; unit not stated: read as {plausible} ({why}), {other} scored too"
         r2, t2 = _read_expected(arr, kind, conv.changed(unit=other))
-        alternatives.append((r2, t2, 1.0, f"the expected angles read as {other}"))
+        alternatives.append((r2, t2, *_unit_alternative(other)))
     r, t = _read_expected(arr, kind, conv)
+    if kind in ("transform", "matrix"):
+        try:
+            (read_transform if kind == "transform" else read_rotation)(arr, "matrix", conv)
+        except NotOrthonormalError:
+            unit_note += ("; its 3x3 block is off orthonormal (printed digits): the nearest rotation was taken "
+                          "(Higham 1986)")
     nested = arr.ndim >= 2 and arr.shape[-2:] in ((4, 4), (3, 4), (3, 3))
     reading = Reading(kind, conv, stated, count=arr.shape[-2] * arr.shape[-1] if nested else arr.shape[-1])
     words = "expected " + reading.describe() + unit_note
@@ -384,16 +424,24 @@ def expected_pose(value, kind: str | None = None, convention=None) -> ExpectedPo
             return pose_from_words(value)
         parsed = parse_numbers(value)
         if parsed.names:
-            return _named_expected(parsed, conv, convention, value)
+            return _named_expected(parsed, conv, convention, value, kind)
         return _numbers_reading(np.asarray(parsed.numbers).reshape(parsed.shape), kind, convention, unit_word,
                                 f"numbers: {value.strip()}")
     arr = as_numbers(value, "expected pose", None)
     return _numbers_reading(arr, kind, convention, None, "numbers")
 
 
-def _named_expected(parsed: ParsedNumbers, conv: Convention, convention, text: str) -> ExpectedPose:
-    """Named components: the names fix the slots; the convention (or the usual yaw-pitch-roll) the rest."""
+def _named_expected(parsed: ParsedNumbers, conv: Convention, convention, text: str,
+                    kind: str | None = None) -> ExpectedPose:
+    """Named components: the names fix the slots; ``kind``, the convention (or the usual yaw-pitch-roll)
+    the rest."""
     interps = [i for i in parsed.require_interpretations() if i.kind != "position"]
+    if kind is not None:
+        chosen = [i for i in interps if kind in (i.kind, i.rotation_kind)]
+        if not chosen:
+            raise PoseInputError(f"expected pose: the named values {text.strip()[:80]!r} cannot be read as {kind}; "
+                                 f"they can be read as: {', '.join(sorted({i.kind for i in interps}))}")
+        interps = chosen
     stated = stated_fields(convention)
     kinds = {i.rotation_kind for i in interps}
     pool = interps
@@ -417,8 +465,7 @@ def _named_expected(parsed: ParsedNumbers, conv: Convention, convention, text: s
         lead = next(i for i in pool if i.convention.unit == plausible)
         other = next(i for i in pool if i.convention.unit != plausible and i.rotation_kind == lead.rotation_kind)
         if "unit" not in stated:
-            alternatives.append((other.rotation, other.translation, 1.0, f"the expected angles read as "
-                                                                          f"{other.convention.unit}"))
+            alternatives.append((other.rotation, other.translation, *_unit_alternative(other.convention.unit)))
             note = f"; unit not stated: read as {plausible}, {other.convention.unit} scored too"
     words = f"expected named components read as {lead.describe()}" + note
     return ExpectedPose(lead.rotation, lead.translation, f"named values: {text.strip()}", words, tuple(alternatives))
@@ -430,8 +477,12 @@ def _named_expected(parsed: ParsedNumbers, conv: Convention, convention, text: s
 # the observed side: the stated reading and the readings to try
 # --------------------------------------------------------------------------------------
 
-def _observed(observed, assumed, assumed_kind, n_pairs: int | None):
-    """-> (stated Reading, candidates, parsed or None, notes).  ``n_pairs`` None: one pose."""
+def _observed(observed, assumed, assumed_kind, n_pairs: int | None, borrowed=None):
+    """-> (stated Reading, candidates, parsed or None, notes).  ``n_pairs`` None: one pose.
+
+    ``borrowed``: the expected side's convention, used for the observed numbers when the user gave
+    none of their own; its fields are then taken as read, not as stated for these numbers.
+    """
     parsed = None
     if isinstance(observed, ParsedNumbers):
         parsed = observed
@@ -452,16 +503,74 @@ def _observed(observed, assumed, assumed_kind, n_pairs: int | None):
                                       f"({n_pairs}, n), one row per expected pose")
     count = arr.shape[1]
     notes = [] if parsed is None else list(parsed.notes)
+    stated_set = None if borrowed is None else frozenset()   # the expected side's convention states nothing here
     if parsed is not None and parsed.names:
         interps = [i for i in parsed.require_interpretations() if i.kind != "position"]
         if not interps:
             raise NoInterpretationError("diagnose: the observed numbers hold no rotation to compare")
-        stated = stated_reading(count, assumed_kind or interps[0].kind, assumed,
+        conv = assumed
+        if _named_scalar(parsed.names) is not None and "scalar" not in stated_fields(assumed):
+            # the names fix which number is w: say the numbers back (and correct them) in the order typed
+            conv = as_convention(assumed).changed(scalar=_named_scalar(parsed.names))
+            stated_set = stated_fields(assumed) if stated_set is None else stated_set
+        stated = stated_reading(count, assumed_kind or interps[0].kind, conv, stated=stated_set,
                                 position_first=interps[0].position_first)
         cands = _named_candidates(interps, stated)
+        _check_observed(stated, cands[0].numbers, notes)
         return stated, cands, parsed, notes
-    stated = stated_reading(count, assumed_kind, assumed)
+    stated = stated_reading(count, assumed_kind, assumed, stated=stated_set)
+    _check_observed(stated, arr, notes)
     return stated, [Candidate(r, arr) for r in readings_of(stated)], parsed, notes
+
+
+#: How far a written-out matrix may be off orthonormal (|M^T M - I|, Frobenius) and still be read
+#: as a rotation printed with few digits (four decimals give about 1e-4); beyond it, no convention
+#: explains the numbers (a scale, a shear, a wrong kind of matrix) and diagnose says so.
+PRINTED_DIGITS = 1e-3
+
+
+def _named_scalar(names) -> str | None:
+    """``first`` / ``last`` when named components put w before / after the x of its own group; None without w."""
+    full = [str(n).lower().rpartition(".") for n in names]
+    w = next((i for i, (_, _, k) in enumerate(full) if k in ("w", "qw")), None)
+    if w is None:
+        return None
+    xs = [i for i, (sect, _, k) in enumerate(full) if sect == full[w][0] and k in ("x", "qx")]
+    if full[w][2] == "qw":
+        xs = [i for i, (_, _, k) in enumerate(full) if k == "qx"] or xs
+    if not xs:
+        return None
+    return "first" if w < xs[-1] else "last"
+
+
+def _check_observed(stated: Reading, numbers: np.ndarray, notes: list) -> None:
+    """Refuse numbers no convention can explain; note what was done to printed digits."""
+    r, _ = read_numbers(stated, numbers) if stated.rotation_kind == "matrix" else (None, None)
+    if r is not None:
+        # the least any layout of these numbers is off orthonormal (a 4x4 read in the other layout has its
+        # translation in the block)
+        err = min((orthonormality_error(read_numbers(x, numbers)[0]) for x in readings_of(stated)),
+                  key=lambda e: float(np.max(e)))
+        if np.max(err) > PRINTED_DIGITS:
+            try:
+                checked_matrix(r, "observed 3x3 block", tolerance=PRINTED_DIGITS)
+            except NotOrthonormalError as exc:
+                raise NotOrthonormalError(f"diagnose: no convention explains these numbers, they are no rotation: "
+                                          f"{exc} (printed digits may be off by up to {PRINTED_DIGITS:g})") from None
+        if np.max(err) > ORTHONORMAL_TOLERANCE:
+            notes.append(f"the observed 3x3 block is off orthonormal by {float(np.max(err)):.2g} (printed digits): "
+                         "corrected numbers come from the nearest rotation")
+    if stated.rotation_kind == "quaternion":
+        rot_part = numbers[..., -4:] if not stated.kind.startswith("position-") or stated.position_first \
+            else numbers[..., :4]
+        length = np.sqrt(np.sum(rot_part * rot_part, axis=-1))
+        if np.any(length < 1e-12):
+            raise ZeroQuaternionError("observed quaternion: it has zero length, so it is no rotation under any "
+                                      "convention; expected four numbers of length 1 (or near it, as printed)")
+        worst = float(np.max(np.abs(length - 1.0)))
+        if worst > PRINTED_DIGITS:
+            notes.append(f"the observed quaternion has length {float(length.ravel()[0]):.6g}, not 1: it was divided "
+                         "by its length (a length far from 1 may mean these numbers are not a quaternion)")
 
 
 def _named_candidates(interps: list[Interpretation], stated: Reading) -> list[Candidate]:
@@ -620,17 +729,22 @@ def _explanations(ranking, stated: Reading, candidates, single: bool, tol_r: flo
         if h.slip.is_none and not fits:
             sent = (f"Read as stated, the numbers are {math.degrees(rr):.3g} degrees"
                     + ("" if tr is None else f" and {tr:.4g} m") + " off the expected pose.")
+        elif h.slip.is_none and h.expected:
+            words = expected_words[h.expected]
+            sent = words[0].upper() + words[1:] + "; read that way, the observed numbers match as you read them."
         else:
             sent = sentence(h.slip)
-        if h.expected:
-            sent = sent[:-1] + f"; {expected_words[h.expected]}."
+            if h.expected:
+                sent = sent[:-1] + f", and {expected_words[h.expected]}."
         same = tuple(dict.fromkeys(sentence(o.slip) for o in g.same
                                    if o.deviations <= h.deviations + 1 and sentence(o.slip) != sent))
         sep = tuple((sentence(o.slip), None if n is None else tuple(float(v) for v in np.round(n, 9)))
                     for o, n in g.separable if o.deviations <= h.deviations + 1)
-        near = rank > 1 and bool((abs(rr - best.rotation_rms) < tol_r and
-                                  (tr is None or abs(tr - best.translation_rms) < tol_t))
-                                 or h.cost - best.cost < PRIOR_WEIGHT)
+        # a near tie: the prior, not the data, put the first one first (both fit, or nearly the same cost)
+        # (or, for the first, other slips fit these numbers equally and only another sample would tell)
+        near = bool(sep) if rank == 1 else bool(fits or (abs(rr - best.rotation_rms) < tol_r and
+                                                         (tr is None or abs(tr - best.translation_rms) < tol_t))
+                                                or h.cost - best.cost < PRIOR_WEIGHT)
         out.append(Explanation(
             rank, sent, rr, tr, h.cost, round(h.deviations, 6) + 0.0, h.slip.true, _relation(h.slip),
             REMAPS[h.slip.parent_remap].copy(), REMAPS[h.slip.child_remap].copy(), h.slip.translation_frame,
@@ -651,7 +765,7 @@ def _verdict(e: Explanation, tol_r: float, tol_t: float) -> tuple[bool, str]:
         return False, (f"No single slip explains these numbers: the closest explanation still leaves "
                        f"{math.degrees(e.rotation_residual):.3g} degrees{tr} (tolerances "
                        f"{math.degrees(tol_r):.3g} degrees, {tol_t:g} m). Closest partial explanations below.")
-    if e.slip.is_none:
+    if e.deviations == 0:
         return True, "The numbers match the expected pose as you read them: no convention error."
     return True, e.sentence
 
@@ -687,7 +801,9 @@ class Diagnosis:
 
     @property
     def near_tie(self) -> bool:
-        return len(self.explanations) > 1 and self.explanations[1].near_tie
+        """True when the data did not decide the lead: another explanation fits nearly as well, or other
+        slips fit these numbers equally (another sample would separate them)."""
+        return self.explanations[0].near_tie or (len(self.explanations) > 1 and self.explanations[1].near_tie)
 
     def summary(self, limit: int = 5) -> str:
         """Plain text: the verdict, both readings, then each explanation with residuals."""
@@ -734,6 +850,13 @@ def _run(stated, candidates, exp: ExpectedPose, n_pairs: int, single: bool, refl
     return ranking, explanations
 
 
+def _said_back(stated: Reading, borrowed) -> str:
+    line = stated.said_back()
+    if borrowed is not None:
+        line += " (you gave no reading for these numbers: the expected side's convention was used, stating nothing)"
+    return line
+
+
 def _translation_notes(exp_t, obs_t) -> list[str]:
     if exp_t and not obs_t:
         return ["the observed numbers hold no translation; only the rotation is compared"]
@@ -767,8 +890,9 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
     exp = expected_pose(expected, expected_kind, expected_convention)
     if exp.rotation.ndim != 2:
         raise WrongShapeError("diagnose: the expected pose must be a single pose; use diagnose_batch for many")
+    borrowed = expected_convention if assumed is None and expected_convention is not None else None
     stated, candidates, parsed, notes = _observed(observed, assumed if assumed is not None else expected_convention,
-                                                  assumed_kind, None)
+                                                  assumed_kind, None, borrowed)
     notes += _translation_notes(exp.translation is not None, stated.has_translation)
     ranking, explanations = _run(stated, candidates, exp, 1, True, reflections, rotation_tolerance,
                                  translation_tolerance, limit)
@@ -777,7 +901,7 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
     as_read = (as_read[0][0], None if as_read[1] is None else as_read[1][0])
     if not reflections and np.linalg.det(as_read[0]) < 0:
         notes.append("the observed 3x3 block is a reflection (det -1); handedness flips were left out on request")
-    return Diagnosis(tuple(explanations), ranking.hypotheses_scored, stated.convention, stated.said_back(), exp,
+    return Diagnosis(tuple(explanations), ranking.hypotheses_scored, stated.convention, _said_back(stated, borrowed), exp,
                      parsed, PRIOR_TEXT, tuple(notes), stated, exp.reading, explained, verdict, as_read)
 
 
@@ -938,8 +1062,9 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
     exp = _batch_expected(expected, expected_kind, expected_convention)
     r_e = checked_matrix(exp.rotation).reshape(-1, 3, 3)
     n_pairs = r_e.shape[0]
+    borrowed = expected_convention if assumed is None and expected_convention is not None else None
     stated, candidates, _, notes = _observed(observed, assumed if assumed is not None else expected_convention,
-                                             assumed_kind, n_pairs)
+                                             assumed_kind, n_pairs, borrowed)
     has_t = exp.translation is not None and stated.has_translation
     notes += _translation_notes(exp.translation is not None, stated.has_translation)
     ranking, explanations = _run(stated, candidates, exp, n_pairs, False, reflections, rotation_tolerance,
@@ -956,7 +1081,7 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
         offset = _fit_offset(r_e, t_e, stated, candidates, snap_tolerance, rotation_tolerance)
     return BatchDiagnosis(tuple(explanations), ranking.hypotheses_scored, n_pairs, best_rr, best_tr,
                           _stats(best_rr, best_tr), consistent, offset, PRIOR_TEXT, tuple(notes), stated,
-                          stated.said_back(), exp.reading, explained, verdict)
+                          _said_back(stated, borrowed), exp.reading, explained, verdict)
 
 
 def _fit_offset(r_e, t_e, stated: Reading, candidates, snap_tolerance, rotation_tolerance) -> ConstantOffset:

@@ -23,9 +23,9 @@ translation untouched), numbers = the true reading's writing of ``(R3, t3)``.
 * a convention field that differs from a field the user *stated*: :data:`STATED_COST`;
 * a different kind of numbers (rotation vector vs Euler angles) or position order: 1;
 * the rotation block transposed on its own, a length scale, a translation frame: 1 each;
-* a remap: 1 for a named frame change (ENU/NED, FLU/FRD, optical), 1.5 for any other
-  proper remap, 2 for a single mirrored axis, 3 for any other reflection (so a proper
-  explanation always wins a tie with an improper one).
+* a remap: 1 for a named frame change (ENU/NED, FLU/FRD, optical), 2.5 for any other
+  proper remap (rarer than contradicting a stated field), 3 for a single mirrored axis, 4 for
+  any other reflection (so a proper explanation always wins a tie with an improper one).
 
 Ties of equal cost are broken by :meth:`Slip.order_key`, a fixed order of the slip
 families (:data:`FAMILY_ORDER`), so the same set of explanations always has the same lead.
@@ -98,8 +98,8 @@ def _remap_costs(mats: np.ndarray) -> np.ndarray:
         named |= np.all(mats == ref, axis=(1, 2))
     diag = np.all(mats * (1 - np.eye(3)) == 0, axis=(1, 2))
     single_mirror = diag & improper & (np.sum(np.diagonal(mats, axis1=1, axis2=2) < 0, axis=1) == 1)
-    cost = np.where(improper, 3.0, 1.5)
-    cost = np.where(single_mirror, 2.0, cost)
+    cost = np.where(improper, 4.0, 2.5)
+    cost = np.where(single_mirror, 3.0, cost)
     cost = np.where(named, 1.0, cost)
     return np.where(ident, 0.0, cost)
 
