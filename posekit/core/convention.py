@@ -108,12 +108,8 @@ class Convention:
     direction: str = "parent-from-child"
     layout: str = "row-major"
 
-    def __hash__(self) -> int:  # hashed on every ranking of the explanation engine: computed once
-        h = self.__dict__.get("_hash")
-        if h is None:
-            h = hash(tuple(getattr(self, f.name) for f in fields(self)))
-            object.__setattr__(self, "_hash", h)
-        return h
+    def __hash__(self) -> int:
+        return hash_once(self)
 
     def __post_init__(self):
         seq = self.sequence
@@ -273,6 +269,19 @@ class Convention:
                   else "flat matrix numbers are read column by column")
         return "; ".join([self.describe_euler(), f"angles in {unit}, outer angles read back in {wrap}",
                           f"quaternions written {order}, {algebra}", action, direction, layout])
+
+
+def hash_once(value) -> int:
+    """The hash of a frozen dataclass value, computed on first use and kept on the value.
+
+    Conventions, readings and slips are hashed on every ranking of the explanation engine (its
+    caches of the prior and the tie order); their fields never change, so neither does the hash.
+    """
+    h = value.__dict__.get("_hash")
+    if h is None:
+        h = hash(tuple(getattr(value, f.name) for f in fields(value)))
+        object.__setattr__(value, "_hash", h)
+    return h
 
 
 DEFAULT = Convention()

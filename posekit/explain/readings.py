@@ -19,13 +19,13 @@ from __future__ import annotations
 
 import itertools
 import re
-from dataclasses import dataclass, field, fields, replace
+from dataclasses import dataclass, field, replace
 from functools import lru_cache
 
 import numpy as np
 
 from ..core import rotation as rot
-from ..core.convention import CHOICES, DEFAULT, TOUCHES, Convention
+from ..core.convention import CHOICES, DEFAULT, TOUCHES, Convention, hash_once
 from ..core.errors import ConventionError, PoseInputError
 from ..core.reading import as_convention, write_rotation
 from ..core.transforms import make_transform, write_transform
@@ -83,12 +83,8 @@ class Reading:
     position_first: bool = True
     count: int = 0
 
-    def __hash__(self) -> int:  # hashed on every ranking (caches of the prior and tie order): computed once
-        h = self.__dict__.get("_hash")
-        if h is None:
-            h = hash(tuple(getattr(self, f.name) for f in fields(self)))
-            object.__setattr__(self, "_hash", h)
-        return h
+    def __hash__(self) -> int:
+        return hash_once(self)
 
     def __post_init__(self):
         if self.kind not in COUNTS:

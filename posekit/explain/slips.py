@@ -35,12 +35,13 @@ from __future__ import annotations
 
 import itertools
 import math
-from dataclasses import dataclass, fields
+from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
 
 from ..core import rotation as rot
+from ..core.convention import hash_once
 from .readings import FIELDS_OF_KIND, Reading, read_numbers
 
 __all__ = ["PRIOR_WEIGHT", "STATED_COST", "FAMILY_ORDER", "REMAPS", "PROPER_REMAPS", "NAMED_REMAPS",
@@ -169,12 +170,8 @@ class Slip:
     length_scale: float = 1.0
     translation_frame: str = "parent"
 
-    def __hash__(self) -> int:  # hashed on every ranking (caches of the prior and tie order): computed once
-        h = self.__dict__.get("_hash")
-        if h is None:
-            h = hash(tuple(getattr(self, f.name) for f in fields(self)))
-            object.__setattr__(self, "_hash", h)
-        return h
+    def __hash__(self) -> int:
+        return hash_once(self)
 
     # --- what it claims ----------------------------------------------------------------
     def field_changes(self) -> tuple[tuple[str, str, str], ...]:
