@@ -736,10 +736,10 @@ def _explanations(ranking, stated: Reading, candidates, single: bool, tol_r: flo
             sent = sentence(h.slip)
             if h.expected:
                 sent = sent[:-1] + f", and {expected_words[h.expected]}."
-        same = tuple(dict.fromkeys(sentence(o.slip) for o in g.same
-                                   if o.deviations <= h.deviations + 1 and sentence(o.slip) != sent))
+        # (the scorer keeps only members within one deviation of the lead)
+        same = tuple(w for w in dict.fromkeys(sentence(o.slip) for o in g.same) if w != sent)
         sep = tuple((sentence(o.slip), None if n is None else tuple(float(v) for v in np.round(n, 9)))
-                    for o, n in g.separable if o.deviations <= h.deviations + 1)
+                    for o, n in g.separable)
         # a near tie: the prior, not the data, put the first one first (both fit, or nearly the same cost)
         # (or, for the first, other slips fit these numbers equally and only another sample would tell)
         near = bool(sep) if rank == 1 else bool(fits or (abs(rr - best.rotation_rms) < tol_r and

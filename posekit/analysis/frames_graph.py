@@ -1136,7 +1136,7 @@ def _candidates(edge: Edge, targets: np.ndarray, atol: float, dtol: float) -> li
         members = (g.lead,) + g.same + tuple(x for x, _ in g.separable)
         for h in members:
             slip = h.slip
-            if slip.is_none or h.deviations > g.lead.deviations + 1:
+            if slip.is_none:
                 continue
             t = _decoded(slip, numbers, edge.planar)
             if not np.all(np.isfinite(t)) or np.allclose(t, edge.transform, atol=1e-12, rtol=0):

@@ -187,6 +187,21 @@ def _raw_reads(candidates: list[Candidate]):
     return out
 
 
+@lru_cache(maxsize=2)
+def _remap_tables(reflections: bool):
+    """The remaps scored, the prior of every (parent, child) pair, and that prior with +inf where the
+    decoded block would be improper, for each sign of det(B) -- the same for every call (read-only)."""
+    remaps = np.asarray(REMAPS if reflections else REMAPS[:24])
+    rc = remap_cost(np.arange(len(remaps)))
+    det_r = np.round(det3(remaps))
+    pq_prior = PRIOR_WEIGHT * (rc[:, None] + rc[None, :])                 # (P, Q)
+    same_sign = (det_r[:, None] * det_r[None, :]) > 0
+    by_sign = {1.0: np.where(same_sign, pq_prior, np.inf), -1.0: np.where(same_sign, np.inf, pq_prior)}
+    for a in (pq_prior, *by_sign.values()):
+        a.setflags(write=False)
+    return remaps, pq_prior, by_sign
+
+
 def _best_separable(a_rot: np.ndarray, b_full: np.ndarray | None, top_n: int):
     """Exact ``top_n`` of ``A[c, p, q] + B[c, s, f, p]`` (``c`` a flattened leading index).
 
@@ -226,9 +241,8 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     ``candidates[i].numbers`` and every expected side hold the same N pairs.  Returns the
     best ``limit`` groups (see :class:`Group`).
     """
-    remaps = np.asarray(REMAPS if reflections else REMAPS[:24])
+    remaps, pq_prior, pq_by_sign = _remap_tables(reflections)
     n_remap = len(remaps)
-    rc = remap_cost(np.arange(n_remap))
     rels = _relations(stated)
     n_pairs = candidates[0].numbers.shape[0]
     raws = _raw_reads(candidates)
@@ -261,13 +275,8 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     b9 = b_rot.reshape(k_n, x_n, n_pairs, 9)
     bb = np.sum(b9 * b9, axis=(2, 3))                                   # (K, X)
     # only hypotheses that decode to a proper rotation: det(P) det(Q) det(B) = +1
-    det_r = np.round(np.linalg.det(remaps))
-    # the remaps' prior, with +inf where the decoded block would be improper, for each sign of det(B)
-    pq_prior = PRIOR_WEIGHT * (rc[:, None] + rc[None, :])                 # (P, Q)
-    same_sign = (det_r[:, None] * det_r[None, :]) > 0
-    pq_by_sign = {1.0: np.where(same_sign, pq_prior, np.inf), -1.0: np.where(same_sign, np.inf, pq_prior)}
     if not reflections and np.all(sign_k < 0):  # reflections left out and the numbers are one: score what there is
-        pq_by_sign[-1.0] = pq_prior
+        pq_by_sign = {1.0: pq_by_sign[1.0], -1.0: pq_prior}
     pq_k = np.stack([pq_by_sign[float(v)] for v in sign_k])                # (K, P, Q)
     s_n = len(LENGTH_SCALES) if compare_t else 1
     f_n = len(TRANSLATION_FRAMES) if compare_t else 1
