@@ -71,11 +71,12 @@ def test_the_ast_check_can_fail(tmp_path):
 # "Layers"): imports go one way only, down the list.
 LAYERS = {
     "core": ({"numpy"}, set()),
-    "explain": ({"numpy"}, {"core"}),
-    "analysis": ({"numpy", "scipy"}, {"core", "explain"}),
-    "view": ({"numpy", "scipy", "plotly"}, {"core", "explain", "analysis"}),
+    "io": ({"numpy"}, {"core"}),
+    "explain": ({"numpy"}, {"core", "io"}),
+    "analysis": ({"numpy", "scipy"}, {"core", "io", "explain"}),
+    "view": ({"numpy", "scipy", "plotly"}, {"core", "io", "explain", "analysis"}),
     "widgets": ({"numpy", "scipy", "plotly", "ipywidgets", "anywidget", "traitlets", "IPython"},
-                {"core", "explain", "analysis", "view"}),
+                {"core", "io", "explain", "analysis", "view"}),
 }
 
 

@@ -23,6 +23,10 @@ __all__ = [
     "ReflectionError",
     "ConventionError",
     "ConventionTextError",
+    "summarise",
+    "excerpt",
+    "odd_characters",
+    "isolate_controls",
 ]
 
 
@@ -80,3 +84,72 @@ def summarise(value, limit: int = 80) -> str:
         pass
     text = repr(value).replace("\n", " ")
     return text[:limit] + ("..." if len(text) > limit else "")
+
+
+#: Characters that reorder or hide text when shown (Unicode bidirectional controls,
+#: zero-width marks, the byte-order mark): never shown raw in a message or report.
+_BIDI = {0x202A, 0x202B, 0x202C, 0x202D, 0x202E, 0x2066, 0x2067, 0x2068, 0x2069, 0x200E, 0x200F, 0x061C}
+_INVISIBLE = {0x200B, 0x200C, 0x200D, 0x2060, 0xFEFF, 0x00AD}
+
+
+def excerpt(text: str, limit: int = 60) -> str:
+    """A short, single-line, safe quotation of user text for a message.
+
+    Long text is cut to its first ``limit`` characters with the total length said;
+    control, bidirectional and invisible characters are shown as ``<U+XXXX>``.
+
+    >>> excerpt("x" * 100, 10)
+    "'xxxxxxxxxx'... (100 characters)"
+    >>> excerpt("a\u202eb")
+    "'a<U+202E>b'"
+    """
+    if not isinstance(text, str):
+        return summarise(text, limit)
+    head = isolate_controls(text[:limit])
+    quoted = "'" + head.replace("'", "\\'") + "'"
+    return quoted + (f"... ({len(text)} characters)" if len(text) > limit else "")
+
+
+def isolate_controls(text: str) -> str:
+    """Replace control, bidirectional-override and invisible characters by ``<U+XXXX>``.
+
+    Newlines and tabs become spaces.  Used for every piece of user text that goes into
+    a message, so what a reader sees is what was typed, in the order it was typed.
+
+    >>> isolate_controls("left\u202eright")
+    'left<U+202E>right'
+    """
+    out = []
+    for ch in text:
+        code = ord(ch)
+        if ch in "\n\t\r":
+            out.append(" ")
+        elif code < 32 or code == 127 or code in _BIDI or code in _INVISIBLE or 0xD800 <= code <= 0xDFFF \
+                or 0x80 <= code < 0xA0:
+            out.append(f"<U+{code:04X}>")
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def odd_characters(text: str, allowed: str = "") -> list[str]:
+    """Characters outside printable ASCII (and ``allowed``), each named with its code point.
+
+    Used where only ASCII is meaningful (convention text, keys, units) so a message can
+    say *which* character was not what it looks like (a Cyrillic ``е`` looks like ``e``).
+
+    >>> odd_characters("z\u0443x")
+    ["'у' U+0443 CYRILLIC SMALL LETTER U at position 1"]
+    """
+    import unicodedata
+
+    found = []
+    for i, ch in enumerate(text):
+        if (32 <= ord(ch) < 127) or ch in allowed or ch in "\n\t\r":
+            continue
+        name = unicodedata.name(ch, "unnamed character")
+        shown = ch if ch.isprintable() and ord(ch) not in _BIDI | _INVISIBLE else ""
+        found.append((f"{shown!r} " if shown else "") + f"U+{ord(ch):04X} {name} at position {i}")
+        if len(found) >= 5:
+            break
+    return found
