@@ -2,65 +2,111 @@
  * Compiled loops for large batches of rotations: posekit.core._loops.
  *
  * Optional: posekit/core/compiled.py uses these when the module was built and falls back
- * to the numpy kernels of rotation.py otherwise (same formulas, same results to rounding).
- * The loops are plain arithmetic on C-contiguous float64 rows, sines, cosines and
- * arctangents included (sincos_reduced, atan2_branchless), so each runs as one call.
- * Each loop also counts the rows that fail the input check it fuses (orthonormality and
- * determinant of matrices, length of quaternions), so the caller reads the data once and
+ * to the numpy kernels of rotation.py, checks.py and ops.py otherwise.  Each loop runs the
+ * numpy kernel's formulas in the numpy kernel's order of operations (the same products,
+ * the same sums in the same order, the same selects), so on exact inputs (entries 0, -0,
+ * +-1, +-1/2 ...) the two routes give the same bits, signs of zero included, and elsewhere
+ * they differ only where the library functions round differently.  Each loop also counts
+ * the rows that fail the input check it fuses (orthonormality and determinant of matrices,
+ * length of quaternions; NaN fails every check), so the caller reads the data once and
  * raises posekit's typed error, with its full message, only when the count is not zero.
  *
- * Formulas and their sources are the ones beside the numpy kernels in rotation.py,
- * checks.py and ops.py:
+ * Sines, cosines, arctangents and square roots are the C library's (sin, cos, atan2, sqrt
+ * of <math.h>; C99 Annex F / IEEE 754 for signed zeros, infinities and NaN; sqrt is
+ * correctly rounded; frexp and ldexp for the rare quaternions too long or too short to
+ * square).  The loops that call them work in passes over a tile: the arithmetic before the
+ * calls, the calls, the arithmetic after them, so the compiler can vectorise the arithmetic
+ * passes (the calls themselves run one value at a time).  No series of our own.
+ *
+ * Formulas and their sources are the ones beside the numpy kernels:
  *   quaternion -> matrix: Shuster, J. Astronautical Sciences 41(4), 1993 (Hamilton, active);
  *   matrix -> quaternion: Shepperd, J. Guidance and Control 1(3), 1978 (largest diagonal);
- *   quaternion -> Euler: Bernardes & Viollet, PLoS ONE 17(11), 2022;
- *   sine and cosine: additive range reduction (Cody & Waite 1980) and Taylor series;
- *   arctangent: a pi/6 shift and Taylor series (common practice).
+ *   quaternion -> Euler: Bernardes & Viollet, PLoS ONE 17(11), 2022.
  *
- * Only the Python C API's buffer protocol is used (no numpy headers), so building needs a
- * C compiler and Python's headers, nothing else.  The GIL is released inside every loop.
+ * Portable C99 with the Python C API's buffer protocol only (no numpy headers, no compiler
+ * extensions required, no instruction-set specific code): building needs a C compiler and
+ * Python's headers, nothing else.  setup.py adds optimisation flags only where the compiler
+ * accepts them, and asks for no contraction of a * b + c into one fused multiply-add (the
+ * numpy kernels round the product and the sum apart).  The GIL is released inside every loop.
  */
 #define PY_SSIZE_T_CLEAN
 #include <Python.h>
+#include <float.h>
 #include <math.h>
 #include <string.h>
 
-/* One binary, the widest vector unit the processor has: gcc builds each loop for AVX-512,
- * AVX2 and the x86-64 baseline and picks one when the module loads. */
-#if defined(__GNUC__) && __GNUC__ >= 11 && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
-#define WIDE __attribute__((target_clones("arch=x86-64-v4", "arch=x86-64-v3", "default")))
-#else
-#define WIDE
+/* a * b + c rounded twice, as numpy does (the C99 pragma, 7.12.2; MSVC's own pragma, from memory;
+ * gcc ignores both and gets -ffp-contract=off from setup.py instead) */
+#if defined(__clang__)
+#pragma STDC FP_CONTRACT OFF
+#elif defined(_MSC_VER)
+#pragma fp_contract(off)
 #endif
 
-#define POLE_SNAP 1e-14 /* the same as rotation.POLE_SNAP */
-
-/* Rows are processed in tiles: a tile is copied into entry-major local arrays (one
- * array per matrix entry), the arithmetic runs over the tile with contiguous operands so
- * the compiler vectorises it, and the results are copied back into rows.  A short last
- * tile is padded with the identity (which passes every check) and not written back. */
-#define TILE 64
+#if defined(_MSC_VER) && !defined(__clang__)
+#define restrict __restrict
+#define ALWAYS_INLINE static __forceinline
+#elif defined(__GNUC__)
 #define ALWAYS_INLINE static inline __attribute__((always_inline))
+#else
+#define ALWAYS_INLINE static inline
+#endif
 
+#define PI 3.14159265358979323846264338327950288 /* the double nearest pi, as numpy.pi */
+#define POLE_SNAP 1e-14                          /* the same as rotation.POLE_SNAP */
+/* Quaternion rows whose squared length lies outside [NORM2_LOW, NORM2_HIGH] are rescaled by a
+ * power of two before the matrix is formed (rotation.NORM2_RANGE; the numpy kernel does the same). */
+#define NORM2_LOW 1e-300
+#define NORM2_HIGH 1e300
+
+/* numpy.maximum and numpy.minimum as the numpy kernels use them: NaN in either operand is the result
+ * (numpy's documentation of both) */
+#define NP_MAX(a, b) ((a) != (a) ? (a) : ((a) > (b) ? (a) : (b)))
+#define NP_MIN(a, b) ((a) != (a) ? (a) : ((a) < (b) ? (a) : (b)))
+
+/* Rows are processed in tiles: a tile is copied into entry-major local arrays (one array
+ * per entry, in the order the arithmetic wants them), the arithmetic runs over the tile
+ * with contiguous operands and only selects (?:) inside, so the compiler can vectorise it,
+ * and the results are copied back into rows.  A short last tile is padded with the
+ * identity (which passes every check) and not written back.  Rows failing a check are
+ * marked 1.0 in a per-tile array and counted after the arithmetic (a count kept inside
+ * the arithmetic loop would stop gcc from vectorising it for the x86-64 baseline). */
+#define TILE 64
+
+/* dst[e][t] = src row t entry col[e] (col NULL: entry e), e < width; padded rows get pad[e] */
 ALWAYS_INLINE void
-load_tile(const double *restrict src, int width, Py_ssize_t nt, double *restrict dst, const double *pad)
+load_tile(const double *restrict src, int width, Py_ssize_t nt, double *restrict dst, const double *pad,
+          const int *col)
 {
     for (Py_ssize_t t = 0; t < TILE; t++)
         for (int e = 0; e < width; e++)
-            dst[e * TILE + t] = t < nt ? src[width * t + e] : pad[e];
+            dst[e * TILE + t] = t < nt ? src[width * t + (col ? col[e] : e)] : pad[e];
 }
 
+/* dst row t entry col[e] (col NULL: entry e) = src[e][t], for the nt rows of the tile */
 ALWAYS_INLINE void
-store_tile(double *restrict dst, int width, Py_ssize_t nt, const double *restrict src)
+store_tile(double *restrict dst, int width, Py_ssize_t nt, const double *restrict src, const int *col)
 {
     for (Py_ssize_t t = 0; t < nt; t++)
         for (int e = 0; e < width; e++)
-            dst[width * t + e] = src[e * TILE + t];
+            dst[width * t + (col ? col[e] : e)] = src[e * TILE + t];
+}
+
+ALWAYS_INLINE Py_ssize_t
+count_marked(const double *flag)
+{
+    Py_ssize_t k = 0;
+    for (Py_ssize_t t = 0; t < TILE; t++)
+        k += flag[t] != 0.0;
+    return k;
 }
 
 static const double EYE[9] = {1, 0, 0, 0, 1, 0, 0, 0, 1};
 static const double UNIT_Q[4] = {1, 0, 0, 0};
 static const double ZEROS[4] = {0, 0, 0, 0};
+/* the entries of a quaternion row in the order w, x, y, z: scalar first, or scalar last */
+static const int SCALAR_FIRST[4] = {0, 1, 2, 3};
+static const int SCALAR_LAST[4] = {3, 0, 1, 2};
 
 #define TILE_ROWS(n, r0) ((n) - (r0) < TILE ? (n) - (r0) : TILE)
 /* entry e of row t of an entry-major tile */
@@ -82,31 +128,33 @@ static const double ZEROS[4] = {0, 0, 0, 0};
             + m02 * (m10 * m21 - m11 * m20);                                                      \
     } while (0)
 
-/* A row fails when the error (squared here) is not within tolerance or the determinant is not >= 0
- * (NaN fails both, so nothing unreadable passes). */
-#define BAD_MATRIX(err2, det, tol) ((!((err2) <= (tol) * (tol))) | (!((det) >= 0.0)))
+/* 1.0 when a row fails: the error (squared here) is not within tolerance or the determinant is
+ * not >= 0 (NaN fails both, so nothing unreadable passes); else 0.0 */
+#define BAD_MATRIX(err2, det, tol) ((!((err2) <= (tol) * (tol)) || !((det) >= 0.0)) ? 1.0 : 0.0)
 
 /* ---------------------------------------------------------------------------------- */
 /* the loops                                                                           */
 
-WIDE static Py_ssize_t
+static Py_ssize_t
 check_loop(const double *restrict m, Py_ssize_t n, double tol)
 {
     Py_ssize_t bad = 0;
-    double a[9 * TILE];
+    double a[9 * TILE], flag[TILE];
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
-        load_tile(m + 9 * r0, 9, TILE_ROWS(n, r0), a, EYE);
+        load_tile(m + 9 * r0, 9, TILE_ROWS(n, r0), a, EYE, NULL);
         for (Py_ssize_t t = 0; t < TILE; t++) {
             double err, det;
             GRAM_DET(a, err, det);
-            bad += BAD_MATRIX(err, det, tol);
+            flag[t] = BAD_MATRIX(err, det, tol);
         }
+        bad += count_marked(flag);
     }
     return bad;
 }
 
 /* Active matrix of quaternion components into tile row t of `o`: every product scaled by
- * `s` (2 / |q|^2 divides a length out; 2 for unit quaternions).  `tr` writes the transpose. */
+ * `s` (2 / |q|^2 divides a length out; 2 for unit quaternions, where x * 2 is numpy's x + x
+ * to the bit).  `tr` writes the transpose, which is the matrix of the conjugate to the bit. */
 #define MATRIX_OF_PARTS(o, w, x, y, z, s, tr)                                                      \
     do {                                                                                          \
         double x2 = x * s, y2 = y * s, z2 = z * s;                                                \
@@ -125,320 +173,307 @@ check_loop(const double *restrict m, Py_ssize_t n, double tol)
         AT(o, 8) = 1.0 - (xx + yy);                                                               \
     } while (0)
 
-/* Unit Hamilton quaternion rows -> active matrix rows, the length divided out in the same
- * pass.  `last`: scalar in slot 3; `conj`: use the conjugate (the transposed matrix).
- * Counts rows whose length is off 1 by more than `tol` (`*bad_unit`) and rows shorter
- * than 1e-12 (`*bad_zero`). */
-WIDE static void
+/* Hamilton quaternion rows -> active matrix rows, the length divided out in the same pass
+ * (homogeneous form).  `last`: scalar in slot 3; `conj`: use the conjugate (the transposed
+ * matrix).  Counts rows whose length is off 1 by more than `tol` (`*bad_unit`) and rows
+ * shorter than 1e-12 (`*bad_zero`).
+ *
+ * A row whose squared length is outside [NORM2_LOW, NORM2_HIGH] (components beyond about
+ * 1e150 overflow it, all below about 1e-150 underflow it; NaN) is redone after the tile's
+ * vectorised pass: multiplied by 2^-e, e the binary exponent of its largest |component|
+ * (frexp; left as it is when that is 0, infinite or NaN), its length that of the scaled row
+ * times 2^e (ldexp).  A power of two scales exactly (IEEE 754), so the matrix is the one of
+ * the row itself: (1e300, 0, 0, 1e300) gives the turn of (1, 0, 0, 1) / sqrt 2.  The numpy
+ * kernel (rotation._write_matrix_of_parts) does the same, to the bit. */
+static void
 quaternion_matrix_loop(const double *restrict q, double *restrict out, Py_ssize_t n, int last, int conj,
                        double tol, Py_ssize_t *bad_unit, Py_ssize_t *bad_zero)
 {
-    const int iw = last ? 3 : 0, ix = last ? 0 : 1;
+    const int *col = last ? SCALAR_LAST : SCALAR_FIRST;
     Py_ssize_t bu = 0, bz = 0;
-    double a[4 * TILE], o[9 * TILE];
-    const double pad_last[4] = {0, 0, 0, 1};
+    double a[4 * TILE], o[9 * TILE], off[TILE], zero[TILE], odd[TILE];
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
         Py_ssize_t nt = TILE_ROWS(n, r0);
-        load_tile(q + 4 * r0, 4, nt, a, last ? pad_last : UNIT_Q);
+        load_tile(q + 4 * r0, 4, nt, a, UNIT_Q, col);
         for (Py_ssize_t t = 0; t < TILE; t++) {
-            double w = AT(a, iw), x = AT(a, ix), y = AT(a, ix + 1), z = AT(a, ix + 2);
+            double w = AT(a, 0), x = AT(a, 1), y = AT(a, 2), z = AT(a, 3);
             double nn = w * w + x * x + y * y + z * z;
             double len = sqrt(nn);
-            bu += !(fabs(len - 1.0) <= tol);
-            bz += !(len >= 1e-12);
+            int plain = nn >= NORM2_LOW && nn <= NORM2_HIGH;
+            off[t] = plain && !(fabs(len - 1.0) <= tol) ? 1.0 : 0.0;
+            zero[t] = plain && !(len >= 1e-12) ? 1.0 : 0.0;
+            odd[t] = plain ? 0.0 : 1.0;
             double s = 2.0 / nn;
             MATRIX_OF_PARTS(o, w, x, y, z, s, conj);
         }
-        store_tile(out + 9 * r0, 9, nt, o);
+        bu += count_marked(off);
+        bz += count_marked(zero);
+        if (count_marked(odd))
+            for (Py_ssize_t t = 0; t < nt; t++) {
+                if (odd[t] == 0.0)
+                    continue;
+                double w = AT(a, 0), x = AT(a, 1), y = AT(a, 2), z = AT(a, 3);
+                double top = NP_MAX(NP_MAX(NP_MAX(fabs(w), fabs(x)), fabs(y)), fabs(z));
+                int e = 0;
+                if (top > 0.0 && top <= DBL_MAX) {
+                    frexp(top, &e);
+                    w = ldexp(w, -e);
+                    x = ldexp(x, -e);
+                    y = ldexp(y, -e);
+                    z = ldexp(z, -e);
+                }
+                double nn = w * w + x * x + y * y + z * z;
+                double len = ldexp(sqrt(nn), e); /* inf when the true length exceeds the double range */
+                bu += !(fabs(len - 1.0) <= tol);
+                bz += !(len >= 1e-12);
+                double s = 2.0 / nn;
+                MATRIX_OF_PARTS(o, w, x, y, z, s, conj);
+            }
+        store_tile(out + 9 * r0, 9, nt, o, NULL);
     }
     *bad_unit = bu;
     *bad_zero = bz;
 }
 
-/* Shepperd's quaternion (w >= 0) of tile row t; `i01` .. `i21` are the entry indices of
- * m01 .. m21 (swapped to read the matrix transposed).  Every candidate is computed and
- * the largest diagonal picks one by selects, with no branch, so the loop vectorises. */
+/* Shepperd's quaternion (w >= 0) of tile row t, as rotation._quaternion_of_matrix_block:
+ * every candidate column is computed and the largest diagonal picks one by selects: a later
+ * column wins only when its diagonal is larger than every earlier one, which is numpy's
+ * "d > maximum(earlier)" exactly, NaN included (a comparison with NaN is false, and
+ * numpy.maximum propagates NaN); then the column is divided by its length, negated where w < 0. */
 #define SHEPPERD(a, w, x, y, z)                                                            \
     do {                                                                                   \
-        double m00 = AT(a, 0), m11 = AT(a, 4), m22 = AT(a, 8);                             \
-        double m01 = AT(a, i01), m10 = AT(a, i10), m02 = AT(a, i02);                       \
-        double m20 = AT(a, i20), m12 = AT(a, i12), m21 = AT(a, i21);                       \
+        double m00 = AT(a, 0), m01 = AT(a, 1), m02 = AT(a, 2), m10 = AT(a, 3);             \
+        double m11 = AT(a, 4), m12 = AT(a, 5), m20 = AT(a, 6), m21 = AT(a, 7), m22 = AT(a, 8); \
         double trace = m00 + m11 + m22, lo = 1.0 - trace;                                  \
         double d0 = 1.0 + trace, d1 = lo + 2.0 * m00, d2 = lo + 2.0 * m11, d3 = lo + 2.0 * m22; \
         double vx = m21 - m12, vy = m02 - m20, vz = m10 - m01;                             \
         double sxy = m01 + m10, sxz = m02 + m20, syz = m12 + m21;                          \
-        /* the numpy kernel's order: later columns win only when strictly larger */        \
-        double w1 = d1 > d0 ? vx : d0, x1 = d1 > d0 ? d1 : vx, y1 = d1 > d0 ? sxy : vy;    \
-        double z1 = d1 > d0 ? sxz : vz, top1 = d1 > d0 ? d1 : d0;                          \
-        double w2 = d2 > top1 ? vy : w1, x2 = d2 > top1 ? sxy : x1, y2 = d2 > top1 ? d2 : y1; \
-        double z2 = d2 > top1 ? syz : z1, top2 = d2 > top1 ? d2 : top1;                    \
-        w = d3 > top2 ? vz : w2;                                                           \
-        x = d3 > top2 ? sxz : x2;                                                          \
-        y = d3 > top2 ? syz : y2;                                                          \
-        z = d3 > top2 ? d3 : z2;                                                           \
+        w = d1 > d0 ? vx : d0;                                                             \
+        x = d1 > d0 ? d1 : vx;                                                             \
+        y = d1 > d0 ? sxy : vy;                                                            \
+        z = d1 > d0 ? sxz : vz;                                                            \
+        w = d2 > d0 && d2 > d1 ? vy : w;                                                   \
+        x = d2 > d0 && d2 > d1 ? sxy : x;                                                  \
+        y = d2 > d0 && d2 > d1 ? d2 : y;                                                   \
+        z = d2 > d0 && d2 > d1 ? syz : z;                                                  \
+        w = d3 > d0 && d3 > d1 && d3 > d2 ? vz : w;                                        \
+        x = d3 > d0 && d3 > d1 && d3 > d2 ? sxz : x;                                       \
+        y = d3 > d0 && d3 > d1 && d3 > d2 ? syz : y;                                       \
+        z = d3 > d0 && d3 > d1 && d3 > d2 ? d3 : z;                                        \
         double inv = 1.0 / sqrt(w * w + x * x + y * y + z * z);                            \
         inv = w < 0.0 ? -inv : inv;                                                        \
-        w *= inv; x *= inv; y *= inv; z *= inv;                                            \
+        w *= inv;                                                                          \
+        x *= inv;                                                                          \
+        y *= inv;                                                                          \
+        z *= inv;                                                                          \
     } while (0)
 
-/* entry indices of the off-diagonal entries, read as stored or transposed */
-#define OFF_DIAGONAL_INDICES(tr)                                                           \
-    const int i01 = tr ? 3 : 1, i10 = tr ? 1 : 3, i02 = tr ? 6 : 2, i20 = tr ? 2 : 6,      \
-              i12 = tr ? 7 : 5, i21 = tr ? 5 : 7
-
-WIDE static Py_ssize_t
-matrix_quaternion_loop(const double *restrict m, double *restrict out, Py_ssize_t n, int tr, int last,
+/* Matrix rows -> unit quaternion rows (w >= 0); `conj` writes the conjugate (negated vector
+ * part, as rotation.conjugate after quaternion_of_matrix), `last` puts the scalar in slot 3. */
+static Py_ssize_t
+matrix_quaternion_loop(const double *restrict m, double *restrict out, Py_ssize_t n, int conj, int last,
                        double tol)
 {
-    const int iw = last ? 3 : 0, ix = last ? 0 : 1;
-    OFF_DIAGONAL_INDICES(tr);
     Py_ssize_t bad = 0;
-    double a[9 * TILE], o[4 * TILE];
+    double a[9 * TILE], o[4 * TILE], flag[TILE];
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
         Py_ssize_t nt = TILE_ROWS(n, r0);
-        load_tile(m + 9 * r0, 9, nt, a, EYE);
+        load_tile(m + 9 * r0, 9, nt, a, EYE, NULL);
         for (Py_ssize_t t = 0; t < TILE; t++) {
             double err, det, w, x, y, z;
             GRAM_DET(a, err, det);
-            bad += BAD_MATRIX(err, det, tol);
+            flag[t] = BAD_MATRIX(err, det, tol);
             SHEPPERD(a, w, x, y, z);
-            AT(o, iw) = w;
-            AT(o, ix) = x;
-            AT(o, ix + 1) = y;
-            AT(o, ix + 2) = z;
+            AT(o, 0) = w;
+            AT(o, 1) = conj ? -x : x;
+            AT(o, 2) = conj ? -y : y;
+            AT(o, 3) = conj ? -z : z;
         }
-        store_tile(out + 4 * r0, 4, nt, o);
+        bad += count_marked(flag);
+        store_tile(out + 4 * r0, 4, nt, o, last ? SCALAR_LAST : SCALAR_FIRST);
     }
     return bad;
 }
 
-/* sin and cos of x for |x| <= SINCOS_LIMIT, with no branch (so the tile loops vectorise):
- * additive range reduction x = k pi/2 + r, |r| <= pi/4, with pi/2 split in three parts whose
- * first two have 32 significant bits, so k * part is exact for |k| < 2^21 (Cody & Waite,
- * "Software Manual for the Elementary Functions", 1980; the parts were computed from pi at
- * 60 digits with mpmath, and test_kernel_routes.py recomputes them).  On |r| <= pi/4 the
- * Taylor series to r^17 (sin) and r^18 (cos) leave a remainder below 1e-19 (common practice).
- * The quadrant k mod 4 picks the signs.  Larger |x| is left to libm by the caller. */
-#define SINCOS_LIMIT 1e5
-#define PIO2_1 0x1.921fb54400000p+0
-#define PIO2_2 0x1.0b4611a600000p-34
-#define PIO2_3 0x1.3198a2e037073p-69
-#define TWO_OVER_PI 0x1.45f306dc9c883p-1
-#define ROUNDER 0x1.8p52 /* adding and subtracting 1.5 * 2^52 rounds to the nearest integer */
-
-ALWAYS_INLINE void
-sincos_reduced(double x, double *sn, double *cs)
-{
-    double k = (x * TWO_OVER_PI + ROUNDER) - ROUNDER;
-    double r = ((x - k * PIO2_1) - k * PIO2_2) - k * PIO2_3;
-    double r2 = r * r;
-    double ps = -0x1.5555555555555p-3 + r2 * (0x1.1111111111111p-7 + r2 * (-0x1.a01a01a01a01ap-13
-              + r2 * (0x1.71de3a556c734p-19 + r2 * (-0x1.ae64567f544e4p-26 + r2 * (0x1.6124613a86d09p-33
-              + r2 * (-0x1.ae7f3e733b81fp-41 + r2 * 0x1.952c77030ad4ap-49))))));
-    double pc = -0.5 + r2 * (0x1.5555555555555p-5 + r2 * (-0x1.6c16c16c16c17p-10 + r2 * (0x1.a01a01a01a01ap-16
-              + r2 * (-0x1.27e4fb7789f5cp-22 + r2 * (0x1.1eed8eff8d898p-29 + r2 * (-0x1.93974a8c07c9dp-37
-              + r2 * (0x1.ae7f3e733b81fp-45 - r2 * 0x1.6827863b97d97p-53)))))));
-    double s = r + r * r2 * ps, c = 1.0 + r2 * pc;
-    double q = k - 4.0 * ((k * 0.25 + ROUNDER) - ROUNDER); /* k mod 4, as one of -2 .. 2 */
-    double sq = q == 0.0 ? s : (q == 1.0 ? c : (q == -1.0 ? -c : -s));
-    double cq = q == 0.0 ? c : (q == 1.0 ? -s : (q == -1.0 ? s : -c));
-    *sn = sq;
-    *cs = cq;
-}
-
 /* Euler angles (radians) -> matrix rows: the elementary quaternions (cos, sin of half of
- * each angle) multiplied in the sequence's order (intrinsic e1 e2 e3, extrinsic e3 e2 e1),
- * then turned into the matrix; `tr` writes the transpose. */
-WIDE static void
+ * each angle, libm) multiplied in the sequence's order (intrinsic e1 e2 e3, extrinsic
+ * e3 e2 e1), then turned into the matrix; `tr` writes the transpose.
+ *
+ * The product is the numpy kernel's (rotation._euler_parts), which skips the structural
+ * zeros of the elementary quaternions: with f, b, l the first, middle and last factor
+ * (axes af, ab, al; adjacent axes differ), p = f b has the four single products
+ *   pw = cf cb,  p[af] = sf cb,  p[ab] = cf sb,  p[third] = +-sf sb (+ when ab follows af cyclically),
+ * and q = p l has two products per component; with a1 = al + 1, a2 = al + 2 (mod 3):
+ *   qw = pw cl - p[al] sl,  q[al] = pw sl + p[al] cl,  q[a1] = p[a1] cl + p[a2] sl,  q[a2] = p[a2] cl - p[a1] sl.
+ * A sum of two products is the same in either order (IEEE 754 addition commutes), so these
+ * are numpy's numbers to the bit given the same sines and cosines; adding a product with a
+ * structural zero (as x * 0) instead would turn a -0 into +0.  The axes pick tile columns
+ * through pointers set once per call, so the loops hold no selects on the axes. */
+static void
 euler_matrix_loop(const double *restrict ang, double *restrict out, Py_ssize_t n, int ax0, int ax1, int ax2,
                   int intrinsic, int tr)
 {
-    /* one-hot masks put the sine on the turn's axis without indexing by a run-time number */
-    const double m0x = ax0 == 0, m0y = ax0 == 1, m0z = ax0 == 2;
-    const double m1x = ax1 == 0, m1y = ax1 == 1, m1z = ax1 == 2;
-    const double m2x = ax2 == 0, m2y = ax2 == 1, m2z = ax2 == 2;
-    double a[3 * TILE], c[3 * TILE], s[3 * TILE], o[9 * TILE];
+    static const int FBL_INTRINSIC[3] = {0, 1, 2}, FBL_EXTRINSIC[3] = {2, 1, 0}; /* angle columns of f, b, l */
+    const int af = intrinsic ? ax0 : ax2, ab = ax1, al = intrinsic ? ax2 : ax0;
+    const int cyclic = ab == (af + 1) % 3;
+    double a[3 * TILE], c[3 * TILE], s[3 * TILE], p[4 * TILE], q[4 * TILE], o[9 * TILE];
+    double *pf = p + (1 + af) * TILE, *pb = p + (1 + ab) * TILE, *pt = p + (4 - af - ab) * TILE;
+    const double *pl = p + (1 + al) * TILE, *pa1 = p + (1 + (al + 1) % 3) * TILE, *pa2 = p + (1 + (al + 2) % 3) * TILE;
+    double *ql = q + (1 + al) * TILE, *qa1 = q + (1 + (al + 1) % 3) * TILE, *qa2 = q + (1 + (al + 2) % 3) * TILE;
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
         Py_ssize_t nt = TILE_ROWS(n, r0);
-        load_tile(ang + 3 * r0, 3, nt, a, ZEROS);
-        int large = 0;
-        for (Py_ssize_t t = 0; t < TILE; t++) {
-            for (int k = 0; k < 3; k++) {
-                double h = 0.5 * AT(a, k), sk, ck;
-                large |= !(fabs(h) <= SINCOS_LIMIT);
-                sincos_reduced(h, &sk, &ck);
-                AT(s, k) = sk;
-                AT(c, k) = ck;
-            }
+        load_tile(ang + 3 * r0, 3, nt, a, ZEROS, intrinsic ? FBL_INTRINSIC : FBL_EXTRINSIC);
+        for (int k = 0; k < 3 * TILE; k++) {
+            double h = 0.5 * a[k];
+            s[k] = sin(h);
+            c[k] = cos(h);
         }
-        if (large) /* beyond the reduction's range: libm's own reduction */
-            for (Py_ssize_t t = 0; t < TILE; t++)
-                for (int k = 0; k < 3; k++)
-                    if (!(fabs(0.5 * AT(a, k)) <= SINCOS_LIMIT)) {
-                        AT(s, k) = sin(0.5 * AT(a, k));
-                        AT(c, k) = cos(0.5 * AT(a, k));
-                    }
         for (Py_ssize_t t = 0; t < TILE; t++) {
-            double c0 = AT(c, 0), c1 = AT(c, 1), c2 = AT(c, 2), s0 = AT(s, 0), s1 = AT(s, 1), s2 = AT(s, 2);
-            double a0w = c0, a0x = s0 * m0x, a0y = s0 * m0y, a0z = s0 * m0z;
-            double a2w = c2, a2x = s2 * m2x, a2y = s2 * m2y, a2z = s2 * m2z;
-            double bw = c1, bx = s1 * m1x, by = s1 * m1y, bz = s1 * m1z;
-            /* first and last factor of the product */
-            double fw = intrinsic ? a0w : a2w, fx = intrinsic ? a0x : a2x;
-            double fy = intrinsic ? a0y : a2y, fz = intrinsic ? a0z : a2z;
-            double lw = intrinsic ? a2w : a0w, lx = intrinsic ? a2x : a0x;
-            double ly = intrinsic ? a2y : a0y, lz = intrinsic ? a2z : a0z;
-            /* p = f (x) b, Hamilton product */
-            double pw = fw * bw - fx * bx - fy * by - fz * bz;
-            double px = fw * bx + fx * bw + fy * bz - fz * by;
-            double py = fw * by - fx * bz + fy * bw + fz * bx;
-            double pz = fw * bz + fx * by - fy * bx + fz * bw;
-            /* q = p (x) l */
-            double w = pw * lw - px * lx - py * ly - pz * lz;
-            double x = pw * lx + px * lw + py * lz - pz * ly;
-            double y = pw * ly - px * lz + py * lw + pz * lx;
-            double z = pw * lz + px * ly - py * lx + pz * lw;
+            double cf = AT(c, 0), sf = AT(s, 0), cb = AT(c, 1), sb = AT(s, 1), ps = sf * sb;
+            p[t] = cf * cb;
+            pf[t] = sf * cb;
+            pb[t] = cf * sb;
+            pt[t] = cyclic ? ps : -ps;
+        }
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double cl = AT(c, 2), sl = AT(s, 2), pw = p[t];
+            q[t] = pw * cl - pl[t] * sl;
+            ql[t] = pw * sl + pl[t] * cl;
+            qa1[t] = pa1[t] * cl + pa2[t] * sl;
+            qa2[t] = pa2[t] * cl - pa1[t] * sl;
+        }
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double w = AT(q, 0), x = AT(q, 1), y = AT(q, 2), z = AT(q, 3);
             MATRIX_OF_PARTS(o, w, x, y, z, 2.0, tr);
         }
-        store_tile(out + 9 * r0, 9, nt, o);
+        store_tile(out + 9 * r0, 9, nt, o, NULL);
     }
 }
 
-/* atan2(y, x) with C99's quadrants, no branch (a zero's sign is not looked at: atan2(0, -0) is
- * 0 here, pi in C99; the callers' zero-zero cases are at a pole, where that angle is unused):
- * t = min/max of |x|, |y| in [0, 1]; above tan(pi/12) the identity
- * atan t = pi/6 + atan((t sqrt3 - 1) / (sqrt3 + t)) brings it into [0, tan(pi/12)], where
- * the Taylor series to t^31 leaves a remainder below 1e-19 (both common practice); one
- * division picks the reduced argument.  Absolute error a few 1e-16. */
-#define PI_OVER_6 0x1.0c152382d7366p-1
-#define PI_OVER_2 0x1.921fb54442d18p+0
-#define SQRT3 0x1.bb67ae8584caap+0
-#define TAN_PI_OVER_12 0x1.126145e9ecd56p-2
-
-ALWAYS_INLINE double
-atan2_branchless(double y, double x)
-{
-    double ax = fabs(x), ay = fabs(y);
-    double hi = ax > ay ? ax : ay, lo = ax > ay ? ay : ax;
-    double reduce = lo > hi * TAN_PI_OVER_12 ? 1.0 : 0.0;
-    double num = reduce > 0.0 ? lo * SQRT3 - hi : lo, den = reduce > 0.0 ? hi * SQRT3 + lo : hi;
-    double t = den > 0.0 ? num / (den > 0.0 ? den : 1.0) : 0.0;
-    double z = t * t;
-    double r = t + t * z * (-1.0 / 3.0 + z * (1.0 / 5.0 + z * (-1.0 / 7.0 + z * (1.0 / 9.0 + z * (-1.0 / 11.0
-             + z * (1.0 / 13.0 + z * (-1.0 / 15.0 + z * (1.0 / 17.0 + z * (-1.0 / 19.0 + z * (1.0 / 21.0
-             + z * (-1.0 / 23.0 + z * (1.0 / 25.0 + z * (-1.0 / 27.0 + z * (1.0 / 29.0 + z * (-1.0 / 31.0)))))))))))))));
-    r = reduce > 0.0 ? r + PI_OVER_6 : r;
-    r = ay > ax ? PI_OVER_2 - r : r;
-    r = x < 0.0 ? M_PI - r : r;
-    return y < 0.0 ? -r : r;
-}
-
-/* Matrix rows -> Euler angles (Bernardes & Viollet 2022) in one pass: the matrix check,
- * Shepperd's quaternion (read transposed when `tr`: the conjugate), the method's four
- * numbers a, b, c, d for axes (i, j, k) as it reads the sequence (reversed for intrinsic;
- * k the missing axis of a proper sequence; eps the permutation's sign), three atan2, the
- * pole snap (the third listed angle is 0 at a pole, as euler_of_quaternion documents),
- * the wrap of the outer angles to (-pi, pi], then the angles times `scale` in the user's
- * order into `out` (n, 3) and, unless NULL, the pole distance into `dist` (n). */
-WIDE static Py_ssize_t
+/* Matrix rows -> Euler angles (Bernardes & Viollet 2022), as rotation.euler_of_quaternion of
+ * rotation.quaternion_of_matrix (conjugated first when `conj`), in four passes per tile:
+ * (1) the matrix check and Shepperd's quaternion; (2) the method's four numbers a, b, c, d
+ * for axes (i, j, k) as it reads the sequence (reversed for intrinsic; k the missing axis of
+ * a proper sequence; eps the permutation's sign) and the lengths |(a, b)|, |(c, d)|;
+ * (3) three atan2 (libm); (4) the pole snap (the third listed angle is 0 at a pole, as
+ * euler_of_quaternion documents), the wrap of the outer angles to (-pi, pi], the angles
+ * times `scale` in the user's order into `out` (n, 3) and, unless NULL, the pole distance
+ * into `dist` (n). */
+static Py_ssize_t
 euler_of_matrix_loop(const double *restrict m, double *restrict out, double *restrict dist, Py_ssize_t n,
-                     int i, int j, int k, int proper, double eps, int intrinsic, int tr, double tol, double scale)
+                     int i, int j, int k, int proper, double eps, int intrinsic, int conj, double tol, double scale)
 {
-    const double ix = i == 0, iy = i == 1, iz = i == 2;
-    const double jx = j == 0, jy = j == 1, jz = j == 2;
-    const double kx = k == 0, ky = k == 1, kz = k == 2;
-    OFF_DIAGONAL_INDICES(tr);
     Py_ssize_t bad = 0;
-    double a[9 * TILE], o[4 * TILE];
+    /* q: w, x, y, z;  u: |(a, b)|, |(c, d)|, a, b, c, d;  v: atan2(b, a), atan2(d, c), atan2(|(c, d)|, |(a, b)|) */
+    double a[9 * TILE], q[4 * TILE], u[6 * TILE], v[3 * TILE], o[4 * TILE], flag[TILE];
+    const double *qi = q + (1 + i) * TILE, *qj = q + (1 + j) * TILE, *qk = q + (1 + k) * TILE;
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
         Py_ssize_t nt = TILE_ROWS(n, r0);
-        load_tile(m + 9 * r0, 9, nt, a, EYE);
+        load_tile(m + 9 * r0, 9, nt, a, EYE, NULL);
         for (Py_ssize_t t = 0; t < TILE; t++) {
             double err, det, w, x, y, z;
             GRAM_DET(a, err, det);
-            bad += BAD_MATRIX(err, det, tol);
+            flag[t] = BAD_MATRIX(err, det, tol);
             SHEPPERD(a, w, x, y, z);
-            double qi = ix * x + iy * y + iz * z;
-            double qj = jx * x + jy * y + jz * z;
-            double qk = kx * x + ky * y + kz * z;
-            double va = proper ? w : w - qj;
-            double vb = proper ? qi : qi + qk * eps;
-            double vc = proper ? qj : qj + w;
-            double vd = proper ? qk * eps : qk * eps - qi;
-            double sp = sqrt(va * va + vb * vb), sm = sqrt(vc * vc + vd * vd); /* |entries| <= 2 */
-            double tp = atan2_branchless(vb, va), tm = atan2_branchless(vd, vc);
-            double t2 = 2.0 * atan2_branchless(sm, sp);
+            AT(q, 0) = w;
+            AT(q, 1) = conj ? -x : x;
+            AT(q, 2) = conj ? -y : y;
+            AT(q, 3) = conj ? -z : z;
+        }
+        bad += count_marked(flag);
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double w = AT(q, 0), ke = qk[t] * eps;
+            double va = proper ? w : w - qj[t];
+            double vb = proper ? qi[t] : qi[t] + ke;
+            double vc = proper ? qj[t] : qj[t] + w;
+            double vd = proper ? ke : ke - qi[t];
+            AT(u, 0) = sqrt(va * va + vb * vb); /* |entries| <= 2: no overflow, as the numpy kernel */
+            AT(u, 1) = sqrt(vc * vc + vd * vd);
+            AT(u, 2) = va;
+            AT(u, 3) = vb;
+            AT(u, 4) = vc;
+            AT(u, 5) = vd;
+        }
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            AT(v, 0) = atan2(AT(u, 3), AT(u, 2));
+            AT(v, 1) = atan2(AT(u, 5), AT(u, 4));
+            AT(v, 2) = atan2(AT(u, 1), AT(u, 0));
+        }
+        for (Py_ssize_t t = 0; t < TILE; t++) {
+            double sp = AT(u, 0), sm = AT(u, 1), tp = AT(v, 0), tm = AT(v, 1), t2 = 2.0 * AT(v, 2);
             double t1 = tp - tm, t3 = tp + tm;
-            double z1 = 2.0 * tp, mz = -2.0 * tm, pz = 2.0 * tm;
-            double at_zero = sm <= POLE_SNAP ? 1.0 : 0.0, at_pi = sp <= POLE_SNAP ? 1.0 : 0.0;
-            double pole = at_zero + at_pi > 0.0 ? 1.0 : 0.0;
-            double s1 = at_zero > 0.0 ? z1 : (at_pi > 0.0 ? mz : t1);
-            double s3 = at_zero > 0.0 ? z1 : (at_pi > 0.0 ? pz : t3);
-            t1 = intrinsic ? (1.0 - pole) * t1 : s1;
-            t3 = intrinsic ? s3 : (1.0 - pole) * t3;
-            /* every value first, then selects: the loop stays free of branches */
-            double tb2 = t2 - 0.5 * M_PI, tpi = M_PI - t2, t3e = eps * t3;
-            double d_proper = t2 < tpi ? t2 : tpi, d_tait = 0.5 * M_PI - fabs(tb2);
+            int at_zero = sm <= POLE_SNAP, at_pi = sp <= POLE_SNAP, pole = at_zero || at_pi;
+            /* at a pole the whole sum or difference goes to the angle third in the user's listing */
+            double t3i = at_zero ? 2.0 * tp : (at_pi ? 2.0 * tm : t3), t1i = pole ? 0.0 : t1;
+            double t1e = at_zero ? 2.0 * tp : (at_pi ? -2.0 * tm : t1), t3e = pole ? 0.0 : t3;
+            t1 = intrinsic ? t1i : t1e;
+            t3 = intrinsic ? t3i : t3e;
+            double tb2 = t2 - 0.5 * PI, d_proper = NP_MIN(t2, PI - t2), d_tait = 0.5 * PI - fabs(tb2);
             double d = proper ? d_proper : d_tait;
-            t3 = proper ? t3 : t3e;
+            t3 = proper ? t3 : eps * t3;
             t2 = proper ? t2 : tb2;
-            double w1 = t1 > M_PI ? t1 - 2.0 * M_PI : t1, w3 = t3 > M_PI ? t3 - 2.0 * M_PI : t3;
-            w1 = w1 <= -M_PI ? w1 + 2.0 * M_PI : w1;
-            w3 = w3 <= -M_PI ? w3 + 2.0 * M_PI : w3;
+            double w1 = t1 > PI ? t1 - 2.0 * PI : t1, w3 = t3 > PI ? t3 - 2.0 * PI : t3;
+            w1 = w1 <= -PI ? w1 + 2.0 * PI : w1;
+            w3 = w3 <= -PI ? w3 + 2.0 * PI : w3;
             AT(o, 0) = (intrinsic ? w3 : w1) * scale; /* the user's first angle */
             AT(o, 1) = t2 * scale;
             AT(o, 2) = (intrinsic ? w1 : w3) * scale;
-            AT(o, 3) = d > 0.0 ? d : 0.0;
+            AT(o, 3) = NP_MAX(d, 0.0);
         }
-        store_tile(out + 3 * r0, 3, nt, o);
+        store_tile(out + 3 * r0, 3, nt, o, NULL);
         if (dist != NULL)
             memcpy(dist + r0, o + 3 * TILE, (size_t)nt * sizeof(double));
     }
     return bad;
 }
 
-WIDE static Py_ssize_t
+/* Matrix products a b, each entry summed from +0 as numpy's matmul does (its accumulator starts
+ * at 0.0), so an entry whose three products are all -0 is +0 on both routes. */
+static Py_ssize_t
 compose_loop(const double *restrict a, const double *restrict b, double *restrict out, Py_ssize_t n, double tol)
 {
     Py_ssize_t bad = 0;
-    double p[9 * TILE], q[9 * TILE], o[9 * TILE];
+    double p[9 * TILE], q[9 * TILE], o[9 * TILE], flag[TILE];
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
         Py_ssize_t nt = TILE_ROWS(n, r0);
-        load_tile(a + 9 * r0, 9, nt, p, EYE);
-        load_tile(b + 9 * r0, 9, nt, q, EYE);
+        load_tile(a + 9 * r0, 9, nt, p, EYE, NULL);
+        load_tile(b + 9 * r0, 9, nt, q, EYE, NULL);
         for (Py_ssize_t t = 0; t < TILE; t++) {
             double e1, d1, e2, d2;
             GRAM_DET(p, e1, d1);
             GRAM_DET(q, e2, d2);
-            bad += BAD_MATRIX(e1, d1, tol) | BAD_MATRIX(e2, d2, tol);
+            flag[t] = BAD_MATRIX(e1, d1, tol) + BAD_MATRIX(e2, d2, tol);
             for (int i = 0; i < 3; i++)
                 for (int j = 0; j < 3; j++)
-                    AT(o, 3 * i + j) = AT(p, 3 * i) * AT(q, j) + AT(p, 3 * i + 1) * AT(q, 3 + j)
+                    AT(o, 3 * i + j) = 0.0 + AT(p, 3 * i) * AT(q, j) + AT(p, 3 * i + 1) * AT(q, 3 + j)
                                      + AT(p, 3 * i + 2) * AT(q, 6 + j);
         }
-        store_tile(out + 9 * r0, 9, nt, o);
+        bad += count_marked(flag);
+        store_tile(out + 9 * r0, 9, nt, o, NULL);
     }
     return bad;
 }
 
-WIDE static Py_ssize_t
+/* Matrix times vector rows, as ops._check_and_turn_block: m00 x + m01 y + m02 z, ... */
+static Py_ssize_t
 turn_loop(const double *restrict m, const double *restrict v, double *restrict out, Py_ssize_t n, double tol)
 {
     Py_ssize_t bad = 0;
-    double a[9 * TILE], u[3 * TILE], o[3 * TILE];
+    double a[9 * TILE], u[3 * TILE], o[3 * TILE], flag[TILE];
     for (Py_ssize_t r0 = 0; r0 < n; r0 += TILE) {
         Py_ssize_t nt = TILE_ROWS(n, r0);
-        load_tile(m + 9 * r0, 9, nt, a, EYE);
-        load_tile(v + 3 * r0, 3, nt, u, ZEROS);
+        load_tile(m + 9 * r0, 9, nt, a, EYE, NULL);
+        load_tile(v + 3 * r0, 3, nt, u, ZEROS, NULL);
         for (Py_ssize_t t = 0; t < TILE; t++) {
             double err, det;
             GRAM_DET(a, err, det);
-            bad += BAD_MATRIX(err, det, tol);
+            flag[t] = BAD_MATRIX(err, det, tol);
             AT(o, 0) = AT(a, 0) * AT(u, 0) + AT(a, 1) * AT(u, 1) + AT(a, 2) * AT(u, 2);
             AT(o, 1) = AT(a, 3) * AT(u, 0) + AT(a, 4) * AT(u, 1) + AT(a, 5) * AT(u, 2);
             AT(o, 2) = AT(a, 6) * AT(u, 0) + AT(a, 7) * AT(u, 1) + AT(a, 8) * AT(u, 2);
         }
-        store_tile(out + 3 * r0, 3, nt, o);
+        bad += count_marked(flag);
+        store_tile(out + 3 * r0, 3, nt, o, NULL);
     }
     return bad;
 }
@@ -547,15 +582,15 @@ py_matrix_quaternion(PyObject *self, PyObject *args)
 {
     Py_buffer b[2] = {{0}};
     const Py_ssize_t w[2] = {9, 4};
-    int tr, last;
+    int conj, last;
     double tol;
     Py_ssize_t n, bad;
     PyObject *res = NULL;
-    if (!PyArg_ParseTuple(args, "y*w*ppd", &b[0], &b[1], &tr, &last, &tol))
+    if (!PyArg_ParseTuple(args, "y*w*ppd", &b[0], &b[1], &conj, &last, &tol))
         return NULL;
     if (rows_all(b, w, 2, &n) == 0) {
         Py_BEGIN_ALLOW_THREADS
-        bad = matrix_quaternion_loop(b[0].buf, b[1].buf, n, tr, last, tol);
+        bad = matrix_quaternion_loop(b[0].buf, b[1].buf, n, conj, last, tol);
         Py_END_ALLOW_THREADS
         res = PyLong_FromSsize_t(bad);
     }
@@ -589,12 +624,12 @@ py_euler_of_matrix(PyObject *self, PyObject *args)
     Py_buffer b[3] = {{0}};
     const Py_ssize_t w[3] = {9, 3, 1};
     PyObject *dist_obj;
-    int i, j, k, proper, intrinsic, tr;
+    int i, j, k, proper, intrinsic, conj;
     double eps, tol, scale;
     Py_ssize_t n, bad;
     PyObject *res = NULL;
     if (!PyArg_ParseTuple(args, "y*w*O(iii)pdppdd", &b[0], &b[1], &dist_obj, &i, &j, &k, &proper, &eps, &intrinsic,
-                          &tr, &tol, &scale))
+                          &conj, &tol, &scale))
         return NULL;
     int with_dist = dist_obj != Py_None;
     if (with_dist && PyObject_GetBuffer(dist_obj, &b[2], PyBUF_WRITABLE | PyBUF_C_CONTIGUOUS | PyBUF_FORMAT) < 0)
@@ -602,7 +637,7 @@ py_euler_of_matrix(PyObject *self, PyObject *args)
     if (rows_all(b, w, with_dist ? 3 : 2, &n) == 0 && axes_ok(i, j, k)) {
         Py_BEGIN_ALLOW_THREADS
         bad = euler_of_matrix_loop(b[0].buf, b[1].buf, with_dist ? b[2].buf : NULL, n, i, j, k, proper, eps,
-                                   intrinsic, tr, tol, scale);
+                                   intrinsic, conj, tol, scale);
         Py_END_ALLOW_THREADS
         res = PyLong_FromSsize_t(bad);
     }
@@ -654,11 +689,11 @@ static PyMethodDef methods[] = {
     {"quaternion_matrix", py_quaternion_matrix, METH_VARARGS,
      "quaternion_matrix(q, out, scalar_last, conjugate, tol) -> (rows off unit length, rows of zero length)"},
     {"matrix_quaternion", py_matrix_quaternion, METH_VARARGS,
-     "matrix_quaternion(m, out, transpose, scalar_last, tol) -> rows that are not rotations"},
+     "matrix_quaternion(m, out, conjugate, scalar_last, tol) -> rows that are not rotations"},
     {"euler_matrix", py_euler_matrix, METH_VARARGS,
      "euler_matrix(angles_in_radians, out, (a0, a1, a2), intrinsic, transpose)"},
     {"euler_of_matrix", py_euler_of_matrix, METH_VARARGS,
-     "euler_of_matrix(m, out, distance_or_None, (i, j, k), proper, eps, intrinsic, transpose, tol, scale)"
+     "euler_of_matrix(m, out, distance_or_None, (i, j, k), proper, eps, intrinsic, conjugate, tol, scale)"
      " -> rows that are not rotations"},
     {"compose", py_compose, METH_VARARGS, "compose(a, b, out, tol) -> rows of a or b that are not rotations"},
     {"turn", py_turn, METH_VARARGS, "turn(m, v, out, tol) -> rows of m that are not rotations"},

@@ -1,15 +1,36 @@
 """Which kernels serve large batches: the compiled loops, or numpy.
 
-posekit's conversions, checks, products and turns of more than ``SMALL_BATCH`` rows run
-in compiled loops (``posekit/core/_loops.c``) when that module was built at install time,
-and in the blocked numpy kernels of :mod:`posekit.core.rotation` otherwise.  Both give
-the same results to rounding and raise the same typed errors; the tests run every law
-over both routes.  The compiled loops fuse the input check (orthonormality, determinant,
-unit length; NaN and infinity fail it too) into the conversion, so a batch is read once.
-When a loop counts failing rows, the caller runs the numpy check, which raises the typed
-error with its message; should the numpy check pass a row the loop failed (a value on
-the tolerance's edge, rounded differently), the numpy check's verdict stands and the
-loop's result is used.
+posekit's conversions, checks, products and turns of more than ``MIN_ROWS`` rows run in
+compiled loops (``posekit/core/_loops.c``) when that module was built at install time, and
+in the blocked numpy kernels of :mod:`posekit.core.rotation`, :mod:`~posekit.core.checks`
+and :mod:`~posekit.core.ops` otherwise.  The module is optional: setup.py builds it with the
+flags the C compiler at hand accepts, and an install without a C compiler (or whose compile
+fails) still succeeds; :func:`available` then says False and every batch takes the numpy
+route, with the same results and errors.
+
+What "the same" means, and what the tests (``tests/test_kernel_routes.py``,
+``tests/test_kernel_special_values.py``, every law of ``tests/test_laws.py`` on both routes)
+hold the loops to:
+
+- The loops run the numpy kernels' formulas in the same order of operations (no fused
+  multiply-add, no reordering; the structural zeros of elementary quaternions are skipped
+  as the numpy kernels skip them).  Sines, cosines, arctangents and square roots come from
+  the C library (``sin``, ``cos``, ``atan2``, ``sqrt`` of ``<math.h>``); the numpy kernels use
+  numpy's functions, which may round differently in the last bits.  So on exact inputs
+  (entries 0, -0, +-1, ...) both routes give the same bits, signs of zero included, and
+  elsewhere they agree to a few units in the last place.
+- NaN and infinity fail every fused check, so both routes refuse them with the same typed
+  error (:class:`~posekit.core.errors.NotFiniteError`).  Entries so large that products
+  overflow fail the orthonormality check on both routes.
+- Quaternions whose squared length would overflow or underflow (components beyond about
+  1e150, or all below about 1e-150) are scaled by a power of two before the length is divided
+  out, in both routes alike (``rotation.NORM2_RANGE``).
+
+The loops fuse the input check (orthonormality, determinant, unit length) into the
+conversion, so a batch is read once.  When a loop counts failing rows, the caller runs the
+numpy check, which raises the typed error with its message; should the numpy check pass a
+row the loop failed (a value on the tolerance's edge, rounded differently), the numpy
+check's verdict stands and the loop's result is used.
 
 Choose the route:
 

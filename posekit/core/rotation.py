@@ -116,13 +116,54 @@ def _product_parts(p, q):
             _term_sum([(1, pw, qz), (1, px, qy), (-1, py, qx), (1, pz, qw)])]
 
 
+#: Squared quaternion lengths in this range are used as they are by the homogeneous form of
+#: :func:`_write_matrix_of_parts` (and by the compiled loop: NORM2_LOW, NORM2_HIGH in _loops.c);
+#: outside it (components beyond about 1e150 or all below about 1e-150, where the squares
+#: overflow or underflow) the row is first scaled by a power of two (:func:`_power_of_two_scaled`).
+NORM2_RANGE = (1e-300, 1e300)
+
+
+def _power_of_two_scaled(v):
+    """Rows of ``v (..., k)`` times ``2**-e``, and ``e (...)``: ``2**e`` is just above the row's
+    largest |component| (``np.frexp``: largest = m 2**e, 0.5 <= m < 1); rows of zeros, or holding
+    NaN or infinity, keep ``e = 0``.  A power of two scales exactly (IEEE 754 binary64) while the
+    result stays in the normal range, so the scaled row points the same way and its length (0.5
+    to 2 for up to 4 components) is computed without overflow or underflow."""
+    top = np.max(np.abs(v), axis=-1)
+    e = np.where(np.isfinite(top), np.frexp(top)[1], 0)
+    return np.ldexp(v, -e[..., None]), e
+
+
+def unit_rows(v):
+    """Rows of ``v (..., k)`` divided by their length, the length taken of the power-of-two scaled
+    rows (:func:`_power_of_two_scaled`), so every finite nonzero row gives a unit row:
+    (1e300, 0, 0, 1e300) -> (0.7071..., 0, 0, 0.7071...).  Where the plain ``v / |v|`` neither
+    overflows nor underflows this is the same to the bit.  Rows of zeros give NaN (callers refuse
+    zero lengths first).
+
+    >>> unit_rows([1e300, 0, 0, 1e300]).round(12).tolist()
+    [0.707106781187, 0.0, 0.0, 0.707106781187]
+    """
+    s, _ = _power_of_two_scaled(np.asarray(v, dtype=np.float64))
+    return s / np.sqrt(np.einsum("...i,...i->...", s, s))[..., None]
+
+
 def _write_matrix_of_parts(out, w, x, y, z, normalise: bool = False):
     """Fill ``out (n, 9)`` with the active matrix of quaternion components (Shuster 1993, Hamilton form).
 
     ``normalise=True`` uses the homogeneous form (every product scaled by 2 / |q|^2), which
-    divides the length out in the same pass."""
+    divides the length out in the same pass; rows whose squared length is outside
+    ``NORM2_RANGE`` are scaled by a power of two first, as the compiled loop does (the same bits)."""
     if normalise:
-        s = 2.0 / (w * w + x * x + y * y + z * z)
+        with np.errstate(over="ignore"):  # overflowing rows are redone below
+            nn = w * w + x * x + y * y + z * z
+        odd = ~((nn >= NORM2_RANGE[0]) & (nn <= NORM2_RANGE[1]))  # NaN too
+        if odd.any():
+            scaled, _ = _power_of_two_scaled(np.stack([w[odd], x[odd], y[odd], z[odd]], axis=-1))
+            w, x, y, z = (np.array(c, dtype=np.float64) for c in (w, x, y, z))
+            w[odd], x[odd], y[odd], z[odd] = scaled[:, 0], scaled[:, 1], scaled[:, 2], scaled[:, 3]
+            nn = w * w + x * x + y * y + z * z
+        s = 2.0 / nn
         x2, y2, z2 = x * s, y * s, z * s
     else:
         x2, y2, z2 = x + x, y + y, z + z
@@ -473,7 +514,8 @@ def quaternion_of_rotvec(v):
     small = theta < 1e-4
     safe = np.where(small, 1.0, theta)
     # sin(theta/2)/theta, series 1/2 - theta^2/48 + theta^4/3840 for small angles
-    scale = np.where(small, 0.5 - theta * theta / 48.0 + theta ** 4 / 3840.0, np.sin(half) / safe)
+    ts = np.where(small, theta, 0.0)  # the series only sees small angles (no overflow for huge ones)
+    scale = np.where(small, 0.5 - ts * ts / 48.0 + ts ** 4 / 3840.0, np.sin(half) / safe)
     out = np.empty(v.shape[:-1] + (4,), dtype=np.float64)
     out[..., 0] = np.cos(half)
     out[..., 1:] = v * scale[..., None]
