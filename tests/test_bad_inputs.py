@@ -126,7 +126,7 @@ CATALOGUE = [
     ("text-upper-case-value", lambda: pk.Convention.parse("sequence=ZYX"), E.ConventionTextError, r"upper-case"),
     ("text-upper-case-unit", lambda: pk.Convention.parse("unit=Degrees"), E.ConventionTextError, r"upper-case"),
     ("text-unknown-key", lambda: pk.Convention.parse("order=zyx"), E.ConventionTextError,
-     r"unknown key 'order'.*known keys: sequence"),
+     r"unknown key 'order'.*accepted keys: sequence"),
     ("text-duplicate-key", lambda: pk.Convention.parse("sequence=zyx unit=degrees sequence=xyz"),
      E.ConventionTextError, r"'sequence' is given twice"),
     ("text-no-equals", lambda: pk.Convention.parse("zyx degrees"), E.ConventionTextError, r"'zyx'.*key=value"),

@@ -50,7 +50,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from ..core.checks import as_numbers
+from ..core.checks import checked_tolerance, as_numbers
 from ..core.convention import CHOICES, DEFAULT, Convention
 from ..core.errors import PoseInputError, WrongShapeError, WrongTypeError
 from ..core.ops import angle_between
@@ -632,12 +632,9 @@ class FrameGraph:
                  distance_tolerance: float = DEFAULT_DISTANCE_TOLERANCE):
         if not isinstance(planar, (bool, np.bool_)):
             raise WrongTypeError(f"planar: got {planar!r}; expected True (SE(2)) or False (SE(3))")
-        for name, v in (("angle_tolerance", angle_tolerance), ("distance_tolerance", distance_tolerance)):
-            if isinstance(v, bool) or not isinstance(v, (int, float, np.floating)) or not np.isfinite(v) or v < 0:
-                raise PoseInputError(f"{name}: got {v!r}; expected a finite number >= 0")
         self._planar = bool(planar)
-        self._atol = float(angle_tolerance)
-        self._dtol = float(distance_tolerance)
+        self._atol = checked_tolerance(angle_tolerance, "angle_tolerance", " radians")
+        self._dtol = checked_tolerance(distance_tolerance, "distance_tolerance", " length units")
         checked: list[Edge] = []
         for e in edges:
             if not isinstance(e, Edge):

@@ -15,6 +15,10 @@ Text form grammar (documented in DEVELOPERS.md as well)::
 
 Every key may appear at most once; a key left out takes its default.  Letter case
 carries no meaning in posekit, so upper-case text is refused rather than guessed.
+The text is plain ASCII: a character outside it (a Cyrillic ``е`` that looks like ``e``,
+the hyphen U+2010, a fullwidth ``＝``, a non-breaking space) is refused and named with
+its code point, and text longer than :data:`TEXT_LIMIT` characters is refused before it
+is read.  Messages quote at most a short excerpt of the text.
 
 =========  ==============================================  =====================
 key        values                                          default
@@ -40,12 +44,18 @@ import re
 from dataclasses import dataclass, fields, replace
 from functools import lru_cache
 
-from .errors import ConventionError, ConventionTextError
+from .errors import ConventionError, ConventionTextError, ConventionTextTooLongError, excerpt, odd_characters, summarise
 import numpy as np
 
 from .rotation import PROPER_EULER, SEQUENCES, TAIT_BRYAN, wrap_signed
 
-__all__ = ["Convention", "CHOICES", "DEFAULT", "TOUCHES"]
+__all__ = ["Convention", "CHOICES", "DEFAULT", "TOUCHES", "TEXT_LIMIT"]
+
+#: The longest convention text read, in characters.  The full text form (every key written out)
+#: is under 200 characters; posekit/core imports nothing above it, so this bound lives here, next
+#: to the grammar it bounds.
+TEXT_LIMIT = 1000
+_SEPARATORS = re.compile(r"[ \t\r\n,;]+")
 
 #: The accepted values of every field, in display order.
 CHOICES: dict[str, tuple[str, ...]] = {
@@ -119,8 +129,9 @@ class Convention:
             value = getattr(self, f.name)
             allowed = CHOICES[f.name]
             if not isinstance(value, str) or value not in allowed:
+                shown = excerpt(value, 40) if isinstance(value, str) else summarise(value, 40)
                 raise ConventionError(
-                    f"convention field '{f.name}' ({_FIELD_HELP[f.name]}): got {value!r}; "
+                    f"convention field '{f.name}' ({_FIELD_HELP[f.name]}): got {shown}; "
                     f"accepted: {', '.join(allowed)}")
 
     # --- derived facts -------------------------------------------------------------
@@ -195,8 +206,19 @@ class Convention:
         if isinstance(text, Convention):
             return text
         if not isinstance(text, str):
-            raise ConventionTextError(f"convention text: got {type(text).__name__} {text!r}; "
+            raise ConventionTextError(f"convention text: got {type(text).__name__} {summarise(text, 40)}; "
                                       "expected a string such as 'sequence=z-y-x unit=degrees'")
+        if len(text) > TEXT_LIMIT:
+            raise ConventionTextTooLongError(f"convention text: {excerpt(text, 40)} is longer than the limit of "
+                                      f"{TEXT_LIMIT} characters, so it was not read; accepted: at most {TEXT_LIMIT} "
+                                      "characters of key=value settings such as 'sequence=z-y-x unit=degrees'")
+        odd = odd_characters(text)
+        if odd:
+            raise ConventionTextError(
+                f"convention text: {excerpt(text, 40)} holds characters outside plain ASCII (some look like the "
+                f"letters, '-', '=' or spaces posekit reads but are not them): {'; '.join(odd)}; accepted: plain ASCII "
+                f"key=value settings separated by spaces, commas, semicolons or newlines (accepted keys: "
+                f"{', '.join(CHOICES)})")
         if cls is Convention:
             return _parse_cached(text)  # conventions are frozen, so one parse per text serves every caller
         return cls._parse_text(text)
@@ -204,31 +226,33 @@ class Convention:
     @classmethod
     def _parse_text(cls, text: str) -> "Convention":
         settings: dict[str, str] = {}
-        for word in [w for w in re.split(r"[\s,;]+", text.strip()) if w]:
+        for word in [w for w in _SEPARATORS.split(text) if w]:
             if word != word.lower():
                 raise ConventionTextError(
-                    f"convention text: '{word}' has upper-case letters; letter case carries no meaning "
+                    f"convention text: {excerpt(word, 40)} has upper-case letters; letter case carries no meaning "
                     "in posekit (write axes=intrinsic or axes=extrinsic explicitly), so use lower case")
             if "=" not in word:
                 raise ConventionTextError(
-                    f"convention text: '{word}' is not of the form key=value; known keys: "
+                    f"convention text: {excerpt(word, 40)} is not of the form key=value; accepted keys: "
                     f"{', '.join(CHOICES)}")
             key, _, value = word.partition("=")
             if key not in CHOICES:
                 raise ConventionTextError(
-                    f"convention text: unknown key '{key}' in '{word}'; known keys: {', '.join(CHOICES)}")
+                    f"convention text: unknown key {excerpt(key, 40)} in {excerpt(word, 60)}; accepted keys: "
+                    f"{', '.join(CHOICES)}")
             if key in settings:
-                raise ConventionTextError(f"convention text: key '{key}' is given twice")
+                raise ConventionTextError(f"convention text: key '{key}' is given twice; accepted: each key at "
+                                          "most once")
             if key == "sequence" and re.fullmatch(r"[xyz]{3}", value):
                 value = "-".join(value)
             if value not in CHOICES[key]:
                 raise ConventionTextError(
-                    f"convention text: '{value}' is not a known value for '{key}' "
+                    f"convention text: {excerpt(value, 40)} is not a known value for '{key}' "
                     f"({_FIELD_HELP[key]}); accepted: {', '.join(CHOICES[key])}")
             settings[key] = value
         if not settings:
             raise ConventionTextError("convention text is empty; write e.g. 'sequence=z-y-x unit=degrees' "
-                                      f"(known keys: {', '.join(CHOICES)})")
+                                      f"(accepted keys: {', '.join(CHOICES)})")
         return cls(**settings)
 
     def __str__(self) -> str:

@@ -23,6 +23,8 @@ __all__ = [
     "ReflectionError",
     "ConventionError",
     "ConventionTextError",
+    "InputTooLargeError",
+    "ConventionTextTooLongError",
     "summarise",
     "excerpt",
     "odd_characters",
@@ -68,6 +70,14 @@ class ConventionError(PoseInputError):
 
 class ConventionTextError(ConventionError):
     """The text form of a convention could not be read; says which word failed."""
+
+
+class InputTooLargeError(PoseInputError):
+    """More bytes or characters than the documented limit; nothing past the limit was read."""
+
+
+class ConventionTextTooLongError(ConventionTextError, InputTooLargeError):
+    """Convention text longer than its limit (caught as either of its two parents)."""
 
 
 def summarise(value, limit: int = 80) -> str:
@@ -153,3 +163,37 @@ def odd_characters(text: str, allowed: str = "") -> list[str]:
         if len(found) >= 5:
             break
     return found
+
+
+class BadToleranceError(PoseInputError):
+    """A tolerance that is not a finite number within the accepted range (> 0)."""
+
+
+class ToleranceTypeError(BadToleranceError, WrongTypeError):
+    """A tolerance given as something other than a real number (text, a boolean, None, a list...)."""
+
+
+class BadCountError(PoseInputError):
+    """A count (such as ``limit``) that is not a whole number >= 1."""
+
+
+class CountTypeError(BadCountError, WrongTypeError):
+    """A count given as something other than a whole number (text, a boolean, a float...)."""
+
+
+class MagnitudeError(PoseInputError):
+    """Finite numbers too large to use: a result would overflow float64, or neighbouring
+    float64 numbers are further apart than the precision asked for (an angle of 1e17
+    degrees cannot be read to within a degree)."""
+
+
+class MaskedEntriesError(PoseInputError):
+    """A numpy masked array with masked entries: posekit does not guess what they stand for."""
+
+
+class BroadcastError(WrongShapeError):
+    """Batch shapes of two or more inputs that do not broadcast together (numpy's rules)."""
+
+
+__all__ += ["BadToleranceError", "ToleranceTypeError", "BadCountError", "CountTypeError", "MagnitudeError",
+            "MaskedEntriesError", "BroadcastError"]

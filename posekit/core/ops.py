@@ -9,8 +9,9 @@ from __future__ import annotations
 import numpy as np
 
 from . import compiled, rotation as rot
-from .checks import (ORTHONORMAL_TOLERANCE, _gram_and_det_block, as_numbers, checked_matrix,
-                     raise_unless_rotation, require_finite)
+from .checks import (ORTHONORMAL_TOLERANCE, _gram_and_det_block, as_numbers, checked_matrix, common_batch,
+                     raise_unless_rotation, require_finite, require_magnitude, require_representable_angles)
+from .errors import WrongTypeError
 
 __all__ = ["compose", "invert", "turn_vectors", "angle_between", "slerp"]
 
@@ -26,12 +27,14 @@ def compose(*rotations) -> np.ndarray:
     True
     """
     if not rotations:
-        raise TypeError("compose() needs at least one rotation")
+        raise WrongTypeError("compose(): got no rotations; expected at least one rotation matrix (..., 3, 3)")
     # each factor is checked once: by a compiled loop's fused check, or by checked_matrix
     out = as_numbers(rotations[0], "rotation matrix", (3, 3), finite=False)
     checked = False
-    for r in rotations[1:]:
+    for i, r in enumerate(rotations[1:], start=2):
         r = as_numbers(r, "rotation matrix", (3, 3), finite=False)
+        common_batch("compose", (f"the product of rotations 1 to {i - 1}" if i > 2 else "rotation 1", out.shape, 2),
+                     (f"rotation {i}", r.shape, 2))
         loops = compiled.loops_for(r.size // 9) if r.shape == out.shape else None
         if loops is None:
             out = (out if checked else checked_matrix(out)) @ checked_matrix(r)
@@ -60,7 +63,9 @@ def turn_vectors(rotation, vectors) -> np.ndarray:
     """
     r = as_numbers(rotation, "rotation matrix", (3, 3), finite=False)  # checked below, or by the loop
     v = as_numbers(vectors, "vectors", (3,))
+    require_magnitude(v, "vectors")
     if r.shape[:-2] != v.shape[:-1]:
+        common_batch("turn_vectors", ("rotation", r.shape, 2), ("vectors", v.shape, 1))
         return np.matmul(checked_matrix(r), v[..., None])[..., 0]
     # one pass checks the matrices (as checked_matrix does) and turns the vectors
     flat_r, lead = rot._rows(r, 9)
@@ -92,22 +97,34 @@ def angle_between(a, b) -> np.ndarray:
     Computed through quaternions with an atan2 form, accurate near 0 and near pi
     (``acos((trace(A^T B) - 1) / 2)`` loses half the digits there; common practice).
     """
-    qa = rot.quaternion_of_matrix(checked_matrix(a))
-    qb = rot.quaternion_of_matrix(checked_matrix(b))
-    return rot.angle_between_quaternions(qa, qb)
+    ma, mb = checked_matrix(a), checked_matrix(b)
+    common_batch("angle_between", ("a", ma.shape, 2), ("b", mb.shape, 2))
+    return rot.angle_between_quaternions(rot.quaternion_of_matrix(ma), rot.quaternion_of_matrix(mb))
 
 
 def slerp(a, b, t) -> np.ndarray:
     """Rotation a fraction ``t`` of the way from ``a`` to ``b`` along the shortest arc.
 
-    ``a, b (..., 3, 3)``, ``t (...)`` -> ``(..., 3, 3)`` (Shoemake 1985).  ``t`` may lie
-    outside [0, 1] to extrapolate.
+    ``a, b (..., 3, 3)``, ``t (...)`` -> ``(..., 3, 3)`` (Shoemake 1985); the batch shapes of
+    ``a``, ``b`` and ``t`` broadcast.  ``t`` may lie outside [0, 1] to extrapolate, as long as
+    the extrapolated angle (up to ``pi |t|``) stays representable to ``ANGLE_TOLERANCE``.
 
     >>> from posekit.core.rotation import elementary_matrix as E
     >>> bool(np.allclose(slerp(np.eye(3), E("z", np.pi / 2), 0.5), E("z", np.pi / 4)))
     True
     """
-    qa = rot.quaternion_of_matrix(checked_matrix(a))
-    qb = rot.quaternion_of_matrix(checked_matrix(b))
-    t = as_numbers(t, "t", None) if not np.isscalar(t) else np.float64(t)
+    ma, mb = checked_matrix(a), checked_matrix(b)
+    t = checked_fraction(t, "t")
+    common_batch("slerp", ("a", ma.shape, 2), ("b", mb.shape, 2), ("t", t.shape, 0))
+    qa = rot.quaternion_of_matrix(ma)
+    qb = rot.quaternion_of_matrix(mb)
     return rot.matrix_of_quaternion(rot.slerp_quaternions(qa, qb, t))
+
+
+def checked_fraction(t, name: str = "t") -> np.ndarray:
+    """An interpolation parameter ``t (...)`` as float64: real, finite, and small enough that
+    ``pi |t|`` (the largest angle it can turn) is representable to ``ANGLE_TOLERANCE``."""
+    t = as_numbers(t, name, None)
+    require_representable_angles(t, name, scale=np.pi, unit="",
+                                 advice=f"{name} scales a turn of up to pi radians; extrapolate less far")
+    return t

@@ -35,9 +35,12 @@ from __future__ import annotations
 import numpy as np
 
 from . import compiled, rotation as rot
-from .checks import ORTHONORMAL_TOLERANCE, UNIT_TOLERANCE, as_numbers, checked_matrix, checked_quaternion
+from .checks import (ORTHONORMAL_TOLERANCE, UNIT_TOLERANCE, as_numbers, checked_flag, checked_matrix,
+                     checked_quaternion, checked_tolerance, common_batch, require_magnitude,
+                     require_representable_angles)
 from .convention import DEFAULT, Convention
-from .errors import NotUnitQuaternionError, PoseInputError, WrongShapeError, ZeroQuaternionError
+from .errors import NotUnitQuaternionError, PoseInputError, WrongShapeError, WrongTypeError, ZeroQuaternionError, \
+    excerpt
 
 __all__ = ["KINDS", "read_rotation", "write_rotation", "convert", "as_convention",
            "quaternion_product"]
@@ -58,8 +61,19 @@ def as_convention(convention) -> Convention:
 
 
 def _check_kind(kind: str) -> None:
+    if not isinstance(kind, str):
+        raise WrongTypeError(f"kind: got {excerpt(kind)} of type {type(kind).__name__}; expected one of the words "
+                             f"{', '.join(KINDS)}")
     if kind not in KINDS:
-        raise PoseInputError(f"unknown kind of numbers {kind!r}; accepted: {', '.join(KINDS)}")
+        raise PoseInputError(f"unknown kind of numbers {excerpt(kind)}; accepted: {', '.join(KINDS)}")
+
+
+def _angles(numbers, name: str, conv: Convention, width) -> np.ndarray:
+    """Angles (or rotation vectors, ``width`` 3 with ``norms``) read as float64 in the convention's
+    unit, refused when too large to name a rotation to ``ANGLE_TOLERANCE`` (np.spacing)."""
+    a = as_numbers(numbers, name, width)
+    require_representable_angles(a, name, _angle_scale(conv), conv.unit, norms=name == "rotation vector")
+    return a
 
 
 def _angle_scale(conv: Convention) -> float:
@@ -90,25 +104,28 @@ def _canonical_quaternion(numbers, kind: str, conv: Convention, normalise: bool,
     if kind == "quaternion":
         return _quaternion_in(numbers, conv, normalise, tolerance)
     if kind == "euler":
-        a = as_numbers(numbers, "Euler angles", (3,)) * scale
+        a = _angles(numbers, "Euler angles", conv, (3,)) * scale
         return rot.quaternion_of_euler(a, conv.axes_letters, conv.intrinsic)
     if kind == "rotation-vector":
-        v = as_numbers(numbers, "rotation vector", (3,)) * scale
+        v = _angles(numbers, "rotation vector", conv, (3,)) * scale
         return rot.quaternion_of_rotvec(v)
     if kind == "axis-angle":
         aa = as_numbers(numbers, "axis-angle", (4,))
+        require_representable_angles(aa[..., 3], "axis-angle angle", scale, conv.unit)
         axis = aa[..., :3]
-        n = np.sqrt(np.sum(axis * axis, axis=-1))
+        n = np.hypot(np.hypot(axis[..., 0], axis[..., 1]), axis[..., 2])  # hypot: no overflow for huge axes
         if np.any(n < 1e-12):
             raise ZeroQuaternionError("axis-angle: the axis has zero length; expected a unit axis (x, y, z) "
                                       "followed by the angle")
         if not normalise and np.any(np.abs(n - 1.0) > tolerance):
+            worst = np.unravel_index(np.argmax(np.abs(n - 1.0)), n.shape)
             raise NotUnitQuaternionError(
-                f"axis-angle: the axis length is {float(np.max(np.abs(n - 1.0)) + 1):.9g}, not 1 within "
-                f"{tolerance:g}; pass normalise=True to divide by the length on purpose")
+                f"axis-angle: the axis length is {float(n[worst]):.9g}"
+                f"{' at index ' + str(tuple(int(i) for i in worst)) if n.ndim else ''}, not 1 within "
+                f"{tolerance:g}; expected a unit axis. Pass normalise=True to divide by the length on purpose")
         return rot.quaternion_of_rotvec(axis / n[..., None] * (aa[..., 3] * scale)[..., None])
     if kind == "planar-angle":
-        a = as_numbers(numbers, "planar angle", None) * scale
+        a = _angles(numbers, "planar angle", conv, None) * scale
         out = np.zeros(a.shape + (4,))
         out[..., 0] = np.cos(0.5 * a)
         out[..., 3] = np.sin(0.5 * a)
@@ -129,6 +146,9 @@ def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: 
     """
     conv = as_convention(convention)
     _check_kind(kind)
+    normalise = checked_flag(normalise, "normalise")
+    if tolerance is not None:
+        tolerance = checked_tolerance(tolerance, "tolerance")
     if kind == "matrix":
         tol = ORTHONORMAL_TOLERANCE if tolerance is None else tolerance
         m = as_numbers(numbers, "rotation matrix", None, finite=False)  # checked_matrix checks finiteness
@@ -141,13 +161,15 @@ def read_rotation(numbers, kind: str = "matrix", convention=None, *, normalise: 
             m = np.swapaxes(m, -1, -2)
         return np.ascontiguousarray(m)
     if kind == "euler":  # direct, without a batch of intermediate quaternions
-        a = as_numbers(numbers, "Euler angles", (3,))
+        a = _angles(numbers, "Euler angles", conv, (3,))
         scale = _angle_scale(conv)
         return rot.matrix_of_euler(a * scale if scale != 1.0 else a, conv.axes_letters, conv.intrinsic,
                                    transpose=_flip_count(conv, True, kind) % 2 == 1)
     tol = UNIT_TOLERANCE if tolerance is None else tolerance
     if kind == "quaternion":
         numbers = q = as_numbers(numbers, "quaternion", (4,), finite=False)  # checked below or by the loop
+        # normalise=True: rows of any finite length are scaled by a power of two before their length
+        # is taken (rotation.unit_rows, the same in the compiled loop), so 1e300 or 1e-300 are fine
         loops = compiled.loops_for(q.size // 4)
         if loops is not None:  # check, reorder, conjugate and convert in one compiled pass
             flat = np.ascontiguousarray(q).reshape(-1, 4)
@@ -187,14 +209,17 @@ def write_rotation(matrix, kind: str = "quaternion", convention=None, *, flat: b
     """
     conv = as_convention(convention)
     _check_kind(kind)
+    flat, check = checked_flag(flat, "flat"), checked_flag(check, "check")
     scale = _angle_scale(conv)
+    if not check:  # trusted to be rotations: only the type and shape are checked
+        matrix = as_numbers(matrix, "rotation matrix", (3, 3), finite=False)
     if kind in ("quaternion", "euler"):
-        m = as_numbers(matrix, "rotation matrix", (3, 3), finite=False) if check else np.asarray(matrix, np.float64)
+        m = as_numbers(matrix, "rotation matrix", (3, 3), finite=False) if check else matrix
         loops = compiled.loops_for(m.size // 9)
         if loops is not None:  # the loop's check also fails NaN and infinity
             return _write_compiled(loops, m, kind, conv, scale, check)
         matrix = m
-    m = checked_matrix(matrix) if check else np.asarray(matrix, dtype=np.float64)
+    m = checked_matrix(matrix) if check else matrix
     if kind == "matrix":
         if conv.direction == "child-from-parent":
             m = np.swapaxes(m, -1, -2)
@@ -264,8 +289,13 @@ def convert(numbers, source_kind: str, target_kind: str, source=None, target=Non
     >>> convert([0, 0, 0, 1], "quaternion", "quaternion", "scalar=last", "scalar=first").tolist()
     [1.0, 0.0, 0.0, 0.0]
     """
+    unknown = sorted(set(options) - {"normalise", "tolerance", "flat"})
+    if unknown:
+        raise WrongTypeError(f"convert: unknown option {excerpt(unknown[0])}; accepted: normalise, tolerance "
+                             "(for reading), flat (for writing)")
     normalise = options.pop("normalise", False)
-    m = read_rotation(numbers, source_kind, source, normalise=normalise)
+    tolerance = options.pop("tolerance", None)
+    m = read_rotation(numbers, source_kind, source, normalise=normalise, tolerance=tolerance)
     return write_rotation(m, target_kind, target, check=False, **options)
 
 
@@ -281,6 +311,9 @@ def quaternion_product(p, q, convention=None):
     conv = as_convention(convention)
     p = as_numbers(p, "quaternion p", (4,))
     q = as_numbers(q, "quaternion q", (4,))
+    require_magnitude(p, "quaternion p")  # products of entries up to LARGEST_COORDINATE stay finite
+    require_magnitude(q, "quaternion q")
+    common_batch("quaternion_product", ("quaternion p", p.shape, 1), ("quaternion q", q.shape, 1))
     if conv.scalar == "last":
         p = np.concatenate([p[..., 3:], p[..., :3]], axis=-1)
         q = np.concatenate([q[..., 3:], q[..., :3]], axis=-1)

@@ -18,9 +18,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import rotation as rot
-from .checks import ORTHONORMAL_TOLERANCE, as_numbers, checked_matrix
+from .checks import (ORTHONORMAL_TOLERANCE, as_numbers, checked_flag, checked_matrix, checked_tolerance, common_batch,
+                     require_magnitude, require_representable_angles)
 from .convention import Convention
-from .errors import PoseInputError, WrongShapeError
+from .errors import PoseInputError, WrongShapeError, WrongTypeError, excerpt, summarise
+from .ops import checked_fraction
 from .reading import as_convention, read_rotation, write_rotation
 
 __all__ = [
@@ -52,7 +54,8 @@ def make_transform(rotation, translation) -> np.ndarray:
     """
     r = checked_matrix(rotation)
     t = as_numbers(translation, "translation", (3,))
-    lead = np.broadcast_shapes(r.shape[:-2], t.shape[:-1])
+    require_magnitude(t, "translation")
+    lead = common_batch("make_transform", ("rotation", r.shape, 2), ("translation", t.shape, 1))
     out = np.zeros(lead + (4, 4))
     out[..., :3, :3] = r
     out[..., :3, 3] = t
@@ -74,6 +77,10 @@ def checked_transform(value, name: str = "transform", size: int | None = None,
     The last row must be ``[0, ..., 0, 1]``: a translation found in the bottom row
     is reported as the tell-tale of a column-major matrix read row-major.
     """
+    if size is not None and (isinstance(size, (bool, np.bool_)) or not isinstance(size, (int, np.integer))
+                             or size not in (3, 4)):
+        raise WrongTypeError(f"size: got {summarise(size)}; expected 4 (SE(3)), 3 (SE(2)) or None (either)")
+    tolerance = checked_tolerance(tolerance, "tolerance")
     m = as_numbers(value, name, None)
     n = _size(m, name) if size is None else size
     if m.shape[-2:] != (n, n):
@@ -89,6 +96,7 @@ def checked_transform(value, name: str = "transform", size: int | None = None,
         raise WrongShapeError(f"{name}: the last row is {np.array2string(bottom.reshape(-1, n)[0])}, expected "
                               f"{np.array2string(want)}.{hint}")
     checked_matrix(m[..., : n - 1, : n - 1], f"{name} rotation block", tolerance=tolerance, size=n - 1)
+    require_magnitude(m[..., : n - 1, n - 1], f"{name} translation")
     return m
 
 
@@ -102,14 +110,18 @@ def split_transform(transform):
 def compose_transforms(*transforms) -> np.ndarray:
     """``T1 @ T2 @ ...`` (broadcast); ``compose_transforms(world_from_base, base_from_cam)`` is world_from_cam."""
     if not transforms:
-        raise TypeError("compose_transforms() needs at least one transform")
+        raise WrongTypeError("compose_transforms(): got no transforms; expected at least one (..., 4, 4) or "
+                             "(..., 3, 3) transform")
     out = checked_transform(transforms[0])
-    for t in transforms[1:]:
+    for i, t in enumerate(transforms[1:], start=2):
         nxt = checked_transform(t)
         if nxt.shape[-1] != out.shape[-1]:
             raise WrongShapeError(f"cannot compose a {out.shape[-1]}x{out.shape[-1]} transform with a "
                                   f"{nxt.shape[-1]}x{nxt.shape[-1]} one; both must be SE(3) or both SE(2)")
-        out = out @ nxt
+        common_batch("compose_transforms", ("transform 1" if i == 2 else f"the product of transforms 1 to {i - 1}",
+                                            out.shape, 2),
+                     (f"transform {i}", nxt.shape, 2))
+        out = out @ nxt  # translations stay below LARGEST_COORDINATE times the chain's length: no overflow
     return out
 
 
@@ -132,6 +144,8 @@ def transform_points(transform, points) -> np.ndarray:
     m = checked_transform(transform)
     n = m.shape[-1]
     p = as_numbers(points, "points", (n - 1,))
+    require_magnitude(p, "points")
+    common_batch("transform_points", ("transform", m.shape, 2), ("points", p.shape, 1))
     return np.matmul(m[..., : n - 1, : n - 1], p[..., None])[..., 0] + m[..., : n - 1, n - 1]
 
 
@@ -140,6 +154,8 @@ def transform_directions(transform, directions) -> np.ndarray:
     m = checked_transform(transform)
     n = m.shape[-1]
     d = as_numbers(directions, "directions", (n - 1,))
+    require_magnitude(d, "directions")
+    common_batch("transform_directions", ("transform", m.shape, 2), ("directions", d.shape, 1))
     return np.matmul(m[..., : n - 1, : n - 1], d[..., None])[..., 0]
 
 
@@ -151,7 +167,8 @@ def interpolate_transforms(a, b, t) -> np.ndarray:
     """
     ma = checked_transform(a, size=4)
     mb = checked_transform(b, size=4)
-    t = np.asarray(t, dtype=np.float64)
+    t = checked_fraction(t, "t")
+    common_batch("interpolate_transforms", ("a", ma.shape, 2), ("b", mb.shape, 2), ("t", t.shape, 0))
     qa = rot.quaternion_of_matrix(ma[..., :3, :3])
     qb = rot.quaternion_of_matrix(mb[..., :3, :3])
     r = rot.matrix_of_quaternion(rot.slerp_quaternions(qa, qb, t))
@@ -167,10 +184,16 @@ def make_planar(x, y, angle, degrees: bool = False) -> np.ndarray:
     >>> np.round(make_planar(1, 2, 90, degrees=True), 12).tolist()
     [[0.0, -1.0, 1.0], [1.0, 0.0, 2.0], [0.0, 0.0, 1.0]]
     """
+    degrees = checked_flag(degrees, "degrees")
     x = as_numbers(x, "x", None)
     y = as_numbers(y, "y", None)
-    a = as_numbers(angle, "angle", None) * (np.pi / 180.0 if degrees else 1.0)
-    lead = np.broadcast_shapes(x.shape, y.shape, a.shape)
+    require_magnitude(x, "x")
+    require_magnitude(y, "y")
+    a = as_numbers(angle, "angle", None)
+    scale = np.pi / 180.0 if degrees else 1.0
+    require_representable_angles(a, "angle", scale, "degrees" if degrees else "radians")
+    a = a * scale
+    lead = common_batch("make_planar", ("x", x.shape, 0), ("y", y.shape, 0), ("angle", a.shape, 0))
     c, s = np.cos(a), np.sin(a)
     out = np.zeros(lead + (3, 3))
     out[..., 0, 0] = c
@@ -185,6 +208,7 @@ def make_planar(x, y, angle, degrees: bool = False) -> np.ndarray:
 
 def planar_parts(transform, degrees: bool = False):
     """``T (..., 3, 3)`` -> ``(x, y, angle)`` each ``(...)``, angle in (-pi, pi] (or degrees)."""
+    degrees = checked_flag(degrees, "degrees")
     m = checked_transform(transform, size=3)
     a = np.arctan2(m[..., 1, 0], m[..., 0, 0])
     if degrees:
@@ -196,7 +220,8 @@ def interpolate_planar(a, b, t) -> np.ndarray:
     """Shortest-way heading interpolation and straight-line position for SE(2): ``(..., 3, 3)``."""
     xa, ya, ha = planar_parts(a)
     xb, yb, hb = planar_parts(b)
-    t = np.asarray(t, dtype=np.float64)
+    t = checked_fraction(t, "t")
+    common_batch("interpolate_planar", ("a", xa.shape + (3, 3), 2), ("b", xb.shape + (3, 3), 2), ("t", t.shape, 0))
     dh = rot.wrap_signed(hb - ha)
     return make_planar(xa + (xb - xa) * t, ya + (yb - ya) * t, ha + dh * t)
 
@@ -204,8 +229,12 @@ def interpolate_planar(a, b, t) -> np.ndarray:
 # --- reading and writing whole poses -----------------------------------------------
 
 def _check_kind(kind: str) -> None:
+    if not isinstance(kind, str):
+        raise WrongTypeError(f"kind: got {excerpt(kind)} of type {type(kind).__name__}; expected one of the words "
+                             f"{', '.join(TRANSFORM_KINDS)}")
     if kind not in TRANSFORM_KINDS:
-        raise PoseInputError(f"unknown kind of transform numbers {kind!r}; accepted: {', '.join(TRANSFORM_KINDS)}")
+        raise PoseInputError(f"unknown kind of transform numbers {excerpt(kind)}; accepted: "
+                             f"{', '.join(TRANSFORM_KINDS)}")
 
 
 def read_transform(numbers, kind: str = "matrix", convention=None, *, normalise: bool = False) -> np.ndarray:
@@ -220,6 +249,7 @@ def read_transform(numbers, kind: str = "matrix", convention=None, *, normalise:
     """
     conv = as_convention(convention)
     _check_kind(kind)
+    normalise = checked_flag(normalise, "normalise")
     if kind == "matrix":
         m = as_numbers(numbers, "transform", None)
         flat = m.shape[-1:] in ((16,), (12,)) and not (m.ndim >= 2 and m.shape[-2:] in ((4, 4), (3, 4)))
@@ -252,6 +282,7 @@ def write_transform(transform, kind: str = "matrix", convention=None, *, flat: b
     """Write canonical ``(..., 4, 4)`` under ``convention``; the inverse of :func:`read_transform`."""
     conv = as_convention(convention)
     _check_kind(kind)
+    flat = checked_flag(flat, "flat")
     m = checked_transform(transform, size=4)
     if conv.direction == "child-from-parent":
         m = invert_transform(m)
@@ -277,6 +308,7 @@ class Pose:
     """
 
     matrix: np.ndarray
+    __array_ufunc__ = None  # ``array @ pose`` asks the Pose (which refuses it) instead of making an object array
 
     def __post_init__(self):
         m = np.array(checked_transform(self.matrix, "pose", size=4), dtype=np.float64, copy=True)
@@ -305,8 +337,14 @@ class Pose:
 
     def __matmul__(self, other: "Pose") -> "Pose":
         if not isinstance(other, Pose):
-            return NotImplemented
+            raise WrongTypeError(f"Pose @ {summarise(other)}: expected a Pose on both sides; to move points use "
+                                 "transform_points(pose.matrix, points)")
+        common_batch("Pose @ Pose", ("left pose", self.matrix.shape, 2), ("right pose", other.matrix.shape, 2))
         return Pose(self.matrix @ other.matrix)
+
+    def __rmatmul__(self, other) -> "Pose":
+        raise WrongTypeError(f"{summarise(other)} @ Pose: expected a Pose on both sides; to move points use "
+                             "transform_points(pose.matrix, points)")
 
     def __eq__(self, other) -> bool:
         return isinstance(other, Pose) and self.matrix.shape == other.matrix.shape and \

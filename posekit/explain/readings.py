@@ -30,7 +30,7 @@ from ..core.errors import ConventionError, PoseInputError
 from ..core.reading import as_convention, write_rotation
 from ..core.transforms import make_transform, write_transform
 
-__all__ = ["KINDS", "FIELDS_OF_KIND", "COUNTS", "Reading", "stated_reading", "read_numbers", "write_numbers",
+__all__ = ["KINDS", "FIELDS_OF_KIND", "COUNTS", "Reading", "stated_reading", "read_numbers", "split_numbers", "write_numbers",
            "readings_of", "stated_fields"]
 
 #: Every kind of numbers the engine reads, with the number counts each may have.
@@ -229,8 +229,8 @@ def readings_of(stated: Reading) -> tuple[Reading, ...]:
 # numbers <-> poses
 # --------------------------------------------------------------------------------------
 
-def _split(reading: Reading, numbers: np.ndarray):
-    """(rotation numbers, translation numbers or None) in the reading's slot order."""
+def split_numbers(reading: Reading, numbers: np.ndarray):
+    """Numbers ``(..., n)`` -> (rotation numbers, translation numbers or None) in the reading's slot order."""
     if not reading.kind.startswith("position-"):
         return numbers, None
     if reading.position_first:
@@ -266,7 +266,7 @@ def read_numbers(reading: Reading, numbers, *, action=None, direction=None):
         if c.layout == "column-major":
             r = np.swapaxes(r, -1, -2)
     else:
-        rot_nums, t = _split(reading, y)
+        rot_nums, t = split_numbers(reading, y)
         scale = np.pi / 180.0 if c.unit == "degrees" else 1.0
         if rk == "quaternion":
             q = rot_nums if c.scalar == "first" else np.concatenate([rot_nums[..., 3:], rot_nums[..., :3]], -1)

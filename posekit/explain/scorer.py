@@ -27,6 +27,8 @@ from functools import lru_cache
 import numpy as np
 
 from ..core import rotation as rot
+from ..core.checks import checked_count, checked_flag, checked_tolerance
+from ..core.errors import WrongShapeError
 from .readings import Reading, read_numbers, write_numbers
 from .slips import LENGTH_SCALES, PRIOR_WEIGHT, REMAPS, STATED_COST, TRANSLATION_FRAMES, Slip, remap_cost
 
@@ -241,6 +243,15 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
     ``candidates[i].numbers`` and every expected side hold the same N pairs.  Returns the
     best ``limit`` groups (see :class:`Group`).
     """
+    rotation_tolerance = checked_tolerance(rotation_tolerance, "rotation_tolerance", " radians")
+    translation_tolerance = checked_tolerance(translation_tolerance, "translation_tolerance",
+                                              " (length units, as the numbers)")
+    keep = checked_count(keep, "keep", " (how many hypotheses to keep)")
+    limit = checked_count(limit, "limit", " (how many explanations to list)")
+    reflections = checked_flag(reflections, "reflections")
+    if not len(candidates) or not len(expected):
+        raise WrongShapeError(f"score: got {len(candidates)} candidate reading(s) and {len(expected)} expected "
+                              "side(s); expected at least one of each")
     remaps, pq_prior, pq_by_sign = _remap_tables(reflections)
     n_remap = len(remaps)
     rels = _relations(stated)
