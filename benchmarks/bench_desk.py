@@ -20,7 +20,7 @@ import numpy as np
 
 import posekit as pk
 from posekit.analysis.diagnose import diagnose, expected_pose
-from posekit.analysis.parse import parse_numbers
+from posekit.io.paste import parse_numbers
 from posekit.widgets import DebugDesk
 
 CONV = "sequence=z-y-x unit=degrees"

@@ -13,8 +13,8 @@ import numpy as np
 import pytest
 from scipy.spatial.transform import Rotation
 
-from posekit.analysis.parse import (NoInterpretationError, PasteParseError, interpret_numbers, parse_numbers,
-                                    unit_judgement)
+from posekit.io.paste import (NoInterpretationError, PasteParseError, interpret_numbers, parse_numbers,
+                              unit_judgement)
 from posekit.core.errors import PoseInputError
 
 _R = Rotation.from_euler("ZYX", [30, -10, 5], degrees=True)  # scipy: upper case = intrinsic

@@ -30,16 +30,20 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..core import rotation as rot
-from ..core.checks import ORTHONORMAL_TOLERANCE, as_numbers, checked_matrix, nearest_rotation, orthonormality_error
+from ..core.checks import (ORTHONORMAL_TOLERANCE, as_numbers, checked_count, checked_matrix, checked_tolerance,
+                           nearest_rotation, orthonormality_error, require_magnitude, require_representable_angles)
 from ..core.convention import DEFAULT, Convention
-from ..core.errors import NotOrthonormalError, PoseInputError, WrongShapeError, ZeroQuaternionError
+from ..core.errors import (NotOrthonormalError, PoseInputError, WrongShapeError, WrongTypeError, ZeroQuaternionError,
+                           summarise)
 from ..core.reading import as_convention, read_rotation, write_rotation  # noqa: F401 (doctest)
 from ..core.transforms import Pose, read_transform
 from ..explain import (PRIOR_WEIGHT, REMAPS, STATED_COST, Candidate, ExpectedSide, Reading, describe_remap,
                        fix_code, readings_of, score, sentence, stated_fields, stated_reading, write_numbers)
-from ..explain.readings import read_numbers
+from ..explain.readings import read_numbers, split_numbers
 from ..explain.scorer import det3
-from .parse import Interpretation, NoInterpretationError, ParsedNumbers, parse_numbers
+from ..io.limits import PASTE_LIMIT, check_text_size
+from ..io.paste import Interpretation, NoInterpretationError, ParsedNumbers, parse_numbers
+from ..io.words import DescriptionError, read_description
 
 __all__ = ["PRIOR_WEIGHT", "PRIOR_TEXT", "DescriptionError", "ExpectedPose", "Explanation", "Diagnosis",
            "BatchDiagnosis", "ConstantOffset", "axis_remaps", "describe_remap", "pose_from_words", "expected_pose",
@@ -54,10 +58,6 @@ PRIOR_TEXT = (f"each deviation from the stated reading costs {PRIOR_WEIGHT:g} (p
               "scalar, algebra, unit, axes, sequence, kind, order, transpose, length, frame, remaps")
 
 
-class DescriptionError(PoseInputError):
-    """A pose description in words could not be read; says which word failed and where."""
-
-
 def axis_remaps(reflections: bool = False) -> np.ndarray:
     """The signed permutation matrices: ``(24, 3, 3)`` proper, or ``(48, 3, 3)`` with reflections.
 
@@ -70,14 +70,12 @@ def axis_remaps(reflections: bool = False) -> np.ndarray:
     return np.array(REMAPS[:48 if reflections else 24])
 
 
-def _check_tolerances(rotation_tolerance, translation_tolerance, limit):
-    for name, v in (("rotation_tolerance", rotation_tolerance), ("translation_tolerance", translation_tolerance)):
-        if isinstance(v, bool) or not isinstance(v, (int, float, np.floating, np.integer)) or not math.isfinite(v) \
-                or v <= 0:
-            raise PoseInputError(f"{name}: got {v!r}; expected a finite number > 0 (radians for rotations, "
-                                 "metres for translations)")
-    if isinstance(limit, bool) or not isinstance(limit, (int, np.integer)) or limit < 1:
-        raise PoseInputError(f"limit: got {limit!r}; expected a whole number >= 1 (how many explanations to list)")
+def _check_tolerances(rotation_tolerance, translation_tolerance, limit, snap_tolerance=math.radians(2.0)):
+    """The settings as (float, float, int, float), or the typed error of core.checks naming what is accepted."""
+    return (checked_tolerance(rotation_tolerance, "rotation_tolerance", " radians"),
+            checked_tolerance(translation_tolerance, "translation_tolerance", " (length units, as the numbers)"),
+            checked_count(limit, "limit", " (how many explanations to list)"),
+            checked_tolerance(snap_tolerance, "snap_tolerance", " radians"))
 
 
 # --------------------------------------------------------------------------------------
@@ -122,38 +120,13 @@ class ExpectedPose:
             out.append(ExpectedSide(r, t, float(dev), words))
         return out
 
-_DIRECTIONS = {"forward": (0, 1.0), "forwards": (0, 1.0), "ahead": (0, 1.0), "back": (0, -1.0),
-               "backward": (0, -1.0), "backwards": (0, -1.0), "left": (1, 1.0), "right": (1, -1.0),
-               "up": (2, 1.0), "down": (2, -1.0)}
-# rotation verbs: (axis, sign of the turn for each direction word); FLU body axes
-_TURNS = {
-    "pitch": (1, {"down": 1.0, "up": -1.0}), "pitched": (1, {"down": 1.0, "up": -1.0}),
-    "yaw": (2, {"left": 1.0, "right": -1.0}), "yawed": (2, {"left": 1.0, "right": -1.0}),
-    "roll": (0, {"right": 1.0, "left": -1.0}), "rolled": (0, {"right": 1.0, "left": -1.0}),
-    "heading": (2, {"left": 1.0, "right": -1.0}),
-}
-_ABOUT_VERBS = {"turned", "rotated", "turn", "rotate", "tilted"}
-_ANGLE_WORDS = {"degree": math.pi / 180, "degrees": math.pi / 180, "deg": math.pi / 180, "°": math.pi / 180,
-                "radian": 1.0, "radians": 1.0, "rad": 1.0}
-_LENGTH_WORDS = {"m": 1.0, "metre": 1.0, "metres": 1.0, "meter": 1.0, "meters": 1.0, "cm": 0.01,
-                 "centimetres": 0.01, "centimeters": 0.01, "mm": 0.001, "millimetres": 0.001,
-                 "millimeters": 0.001}
-_FILLER = {"and", "then", "by", "nose", "of", "the", "a", "to", "its", "is", "it", "with", "plus"}
-
-
-def pose_from_words(text: str) -> ExpectedPose:
+def pose_from_words(text: str, *, limit: int = PASTE_LIMIT) -> ExpectedPose:
     """Build a pose from a short description, e.g. ``"pitched 25 degrees down, 0.3 m forward"``.
 
-    Frame words (FLU body axes, right-handed): forward = +x, back = -x, left = +y,
-    right = -y, up = +z, down = -z.  Turns, each about the body's *current* axes and
-    applied in the order written (intrinsic): ``pitched N degrees down|up`` (down =
-    +N about y), ``yawed N degrees left|right`` (left = +N about z), ``rolled N
-    degrees right|left`` (right = +N about x, the right side going down),
-    ``turned|rotated N degrees about [+|-]x|y|z``.  Angle units: degrees, deg, °,
-    radians, rad (one is required).  Moves: ``N m|cm|mm forward|back|left|right|up|down``
-    (the direction word may come first), expressed in the parent frame's axes and
-    summed.  ``level`` / ``identity`` means no turn.  Clauses are separated by commas,
-    semicolons or "and"/"then".
+    The words are read by :func:`posekit.io.words.read_description`, whose docstring lists the
+    frame words (forward-left-up body axes), the turns (about the current axes, in the order
+    written), the moves and what is refused (:class:`DescriptionError`; text longer than
+    ``limit`` characters raises :class:`~posekit.io.limits.InputTooLargeError`).
 
     ``(text) -> ExpectedPose`` with ``rotation (3, 3)`` and ``translation (3,)``.
 
@@ -161,125 +134,16 @@ def pose_from_words(text: str) -> ExpectedPose:
     >>> np.round(p.rotation @ [1, 0, 0], 12).tolist(), p.translation.tolist()
     ([0.0, 0.0, -1.0], [0.3, 0.0, 0.0])
     """
-    if not isinstance(text, str):
-        raise DescriptionError(f"pose description: got {type(text).__name__}; expected text such as "
-                               "'pitched 25 degrees down, 0.3 m forward'")
-    tokens = [(m.group(0), m.start()) for m in re.finditer(r"[+-]?\d+(?:\.\d*)?(?:[eE][+-]?\d+)?|[+-]?\.\d+|"
-                                                           r"[A-Za-z]+|°|[+-]|[,;]|\S", text)]
-    r = np.eye(3)
-    t = np.zeros(3)
-    seen_any = False
-    i = 0
-
-    def fail(msg, pos):
-        caret = text + "\n" + " " * pos + "^"
-        raise DescriptionError(f"pose description: {msg} at offset {pos}:\n{caret}\naccepted: clauses such as "
-                               "'pitched 25 degrees down', 'yawed 10 deg left', 'rolled 5 degrees right', "
-                               "'turned 90 degrees about z', '0.3 m forward', '20 cm left', 'level'; frame words "
-                               "forward=+x, left=+y, up=+z")
-
-    def number_at(j):
-        if j < len(tokens):
-            try:
-                return float(tokens[j][0])
-            except ValueError:
-                return None
-        return None
-
-    while i < len(tokens):
-        word, pos = tokens[i]
-        low = word.lower()
-        if low in _FILLER or word in ",;":
-            i += 1
-            continue
-        if low in ("level", "identity", "upright"):
-            seen_any = True
-            i += 1
-            continue
-        if low in _TURNS or low in _ABOUT_VERBS:
-            j = i + 1
-            direction = None
-            while j < len(tokens) and tokens[j][0].lower() in _FILLER:
-                j += 1
-            if j < len(tokens) and tokens[j][0].lower() in _DIRECTIONS:  # "pitched down 25 degrees"
-                direction = tokens[j][0].lower()
-                j += 1
-            value = number_at(j)
-            if value is None:
-                fail(f"expected an angle after '{word}'", tokens[j][1] if j < len(tokens) else len(text))
-            j += 1
-            if j >= len(tokens) or tokens[j][0].lower() not in _ANGLE_WORDS:
-                fail("expected an angle unit (degrees or radians)", tokens[j][1] if j < len(tokens) else len(text))
-            angle = value * _ANGLE_WORDS[tokens[j][0].lower()]
-            j += 1
-            if low in _TURNS:
-                axis, signs = _TURNS[low]
-                while j < len(tokens) and tokens[j][0].lower() in _FILLER:
-                    j += 1
-                if direction is None and j < len(tokens) and tokens[j][0].lower() in _DIRECTIONS:
-                    direction = tokens[j][0].lower()
-                    j += 1
-                if direction is None:
-                    fail(f"'{word}' needs a direction word ({' or '.join(signs)})", pos)
-                if direction not in signs:
-                    fail(f"'{direction}' is not a direction for '{word}' (use {' or '.join(signs)})", pos)
-                angle *= signs[direction]
-            else:
-                if j >= len(tokens) or tokens[j][0].lower() != "about":
-                    fail(f"expected 'about x|y|z' after the angle of '{word}'",
-                         tokens[j][1] if j < len(tokens) else len(text))
-                j += 1
-                sign = 1.0
-                if j < len(tokens) and tokens[j][0] in "+-":
-                    sign = -1.0 if tokens[j][0] == "-" else 1.0
-                    j += 1
-                if j >= len(tokens) or tokens[j][0].lower() not in ("x", "y", "z"):
-                    fail("expected the axis x, y or z", tokens[j][1] if j < len(tokens) else len(text))
-                axis = "xyz".index(tokens[j][0].lower())
-                angle *= sign
-                j += 1
-            r = r @ rot.elementary_matrix("xyz"[axis], angle)
-            seen_any = True
-            i = j
-            continue
-        value = number_at(i)
-        if value is not None or low in _DIRECTIONS:
-            j = i
-            direction = None
-            if value is None:
-                direction = low
-                j += 1
-                value = number_at(j)
-                if value is None:
-                    fail(f"expected a distance after '{word}'", tokens[j][1] if j < len(tokens) else len(text))
-            j += 1
-            if j >= len(tokens) or tokens[j][0].lower() not in _LENGTH_WORDS:
-                if j < len(tokens) and tokens[j][0].lower() in _ANGLE_WORDS:
-                    fail("an angle needs a verb (pitched, yawed, rolled, turned ... about)", pos)
-                fail("expected a length unit (m, cm or mm)", tokens[j][1] if j < len(tokens) else len(text))
-            dist = value * _LENGTH_WORDS[tokens[j][0].lower()]
-            j += 1
-            if direction is None:
-                if j >= len(tokens) or tokens[j][0].lower() not in _DIRECTIONS:
-                    fail("expected a direction word (forward, back, left, right, up, down)",
-                         tokens[j][1] if j < len(tokens) else len(text))
-                direction = tokens[j][0].lower()
-                j += 1
-            axis, sign = _DIRECTIONS[direction]
-            t[axis] += sign * dist
-            seen_any = True
-            i = j
-            continue
-        fail(f"unknown word '{word}'", pos)
-    if not seen_any:
-        fail("nothing to read", 0)
-    r = rot.matrix_of_quaternion(rot.quaternion_of_matrix(r))
-    return ExpectedPose(r, t, f"described: {text.strip()}",
-                        f"expected: described: {text.strip()} (forward-left-up body axes, turns in the order written)")
+    d = read_description(text, limit=limit)
+    return ExpectedPose(d.rotation, d.translation, f"described: {d.text.strip()}",
+                        f"expected: described: {d.text.strip()} (forward-left-up body axes, turns in the order "
+                        "written)")
 
 
 
-_UNIT_WORD = re.compile(r"^(?P<body>.*?)[\s,]*(?P<unit>degrees|degree|deg|°|radians|radian|rad)\s*$", re.S)
+#: A unit word at the end of the expected numbers ("10 20 30 degrees"); searched, then the body is the
+#: text before it with blanks and commas stripped (a lazy body before a greedy run was quadratic).
+_UNIT_WORD = re.compile(r"(?P<unit>degrees|degree|deg|°|radians|radian|rad)\s*\Z")
 _ANGLE_KINDS = ("euler", "rotation-vector", "position-euler", "position-rotation-vector")
 _KIND_BY_COUNT = {4: "quaternion", 3: "euler", 7: "position-quaternion", 6: "position-euler", 9: "matrix",
                   12: "transform", 16: "transform"}
@@ -409,6 +273,10 @@ def expected_pose(value, kind: str | None = None, convention=None) -> ExpectedPo
     >>> e.reading
     'expected Euler angles z-y-x intrinsic in degrees, active, parent-from-child; unit not stated: read as degrees (magnitudes beyond 2 pi rule out radians), radians scored too'
     """
+    if kind is not None and not isinstance(kind, str):
+        raise WrongTypeError(f"kind of the expected pose: got {summarise(kind)} of type {type(kind).__name__}; expected None (the "
+                             "count decides) or a word: matrix, transform, quaternion, euler, rotation-vector, "
+                             "position-quaternion, position-euler")
     if isinstance(value, ExpectedPose):
         return value
     if isinstance(value, Pose):
@@ -416,9 +284,11 @@ def expected_pose(value, kind: str | None = None, convention=None) -> ExpectedPo
     conv = as_convention(convention)
     if isinstance(value, str):
         unit_word = None
-        m = _UNIT_WORD.match(value)
-        if m and re.fullmatch(r"[\s\d.eE+\-,;\[\]()]*", m.group("body")) and re.search(r"\d", m.group("body")):
-            value, unit_word = m.group("body"), m.group("unit")
+        check_text_size(value, what="expected pose text")
+        m = _UNIT_WORD.search(value)
+        body = value[:m.start()].rstrip(" \t\r\n\f\v,") if m else ""
+        if m and re.fullmatch(r"[\s\d.eE+\-,;\[\]()]*", body) and re.search(r"\d", body):
+            value, unit_word = body, m.group("unit")
             unit_word = "degrees" if unit_word.startswith("deg") or unit_word == "°" else "radians"
         elif re.search(r"[A-Za-z]{3,}", value) and not re.search(r"array|[:=\[{]", value):
             return pose_from_words(value)
@@ -545,6 +415,12 @@ def _named_scalar(names) -> str | None:
 
 def _check_observed(stated: Reading, numbers: np.ndarray, notes: list) -> None:
     """Refuse numbers no convention can explain; note what was done to printed digits."""
+    require_magnitude(numbers, "observed numbers")
+    if stated.rotation_kind in ("euler", "rotation-vector"):
+        angles, _ = split_numbers(stated, numbers)
+        degrees = "unit" not in stated.stated or stated.convention.unit == "degrees"  # unstated: the lenient unit
+        require_representable_angles(angles, "observed angles", np.pi / 180.0 if degrees else 1.0,
+                                     "degrees" if degrees else "radians", norms=stated.rotation_kind != "euler")
     r, _ = read_numbers(stated, numbers) if stated.rotation_kind == "matrix" else (None, None)
     if r is not None:
         # the least any layout of these numbers is off orthonormal (a 4x4 read in the other layout has its
@@ -886,7 +762,8 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
     >>> d.best.sentence
     'The quaternion was written scalar-last but read scalar-first.'
     """
-    _check_tolerances(rotation_tolerance, translation_tolerance, limit)
+    rotation_tolerance, translation_tolerance, limit, _ = _check_tolerances(rotation_tolerance, translation_tolerance,
+                                                                           limit)
     exp = expected_pose(expected, expected_kind, expected_convention)
     if exp.rotation.ndim != 2:
         raise WrongShapeError("diagnose: the expected pose must be a single pose; use diagnose_batch for many")
@@ -1058,7 +935,8 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
     >>> diagnose_batch(truth, obs).best.sentence
     'The quaternion was written scalar-last but read scalar-first.'
     """
-    _check_tolerances(rotation_tolerance, translation_tolerance, limit)
+    rotation_tolerance, translation_tolerance, limit, snap_tolerance = _check_tolerances(
+        rotation_tolerance, translation_tolerance, limit, snap_tolerance)
     exp = _batch_expected(expected, expected_kind, expected_convention)
     r_e = checked_matrix(exp.rotation).reshape(-1, 3, 3)
     n_pairs = r_e.shape[0]

@@ -11,7 +11,7 @@ import numpy as np
 
 import posekit as pk
 from posekit.analysis.diagnose import diagnose, expected_pose
-from posekit.analysis.parse import parse_numbers
+from posekit.io.paste import parse_numbers
 from posekit.desk_scenarios import row_drive
 from posekit.view.frames import frame_points
 from posekit.view.trajectory import flagged_spans, row_rotation
