@@ -17,8 +17,8 @@ from fresh_kernel import state_rebuilt_in_fresh_kernel
 
 import posekit as pk
 from posekit.analysis.diagnose import diagnose, diagnose_batch, expected_pose, pose_from_words
-from posekit.analysis.parse import parse_numbers
-from posekit.analysis.state import State, state_from_json, state_to_json
+from posekit.io.paste import parse_numbers
+from posekit.io.state import State, state_from_json, state_to_json
 from posekit.view.frames import frame_points
 from posekit.view.report import report_html
 from posekit.widgets import DebugDesk, Explorer

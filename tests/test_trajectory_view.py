@@ -13,7 +13,7 @@ import pytest
 from plotly.callbacks import Points
 
 import posekit as pk
-from posekit.analysis.state import state_from_json, state_to_json
+from posekit.io.state import state_from_json, state_to_json
 from posekit.analysis.trajectory import check_trajectory
 from posekit.desk_scenarios import row_drive
 from posekit.view.frames import frame_points

@@ -15,6 +15,8 @@ from __future__ import annotations
 
 import html
 import math
+from dataclasses import dataclass
+from typing import ClassVar
 
 import ipywidgets as w
 import numpy as np
@@ -23,8 +25,10 @@ import traitlets as t
 
 from ..analysis.diagnose import (BatchDiagnosis, Diagnosis, ExpectedPose, diagnose, diagnose_batch, expected_pose,
                                  pose_from_words)
-from ..analysis.parse import ParsedNumbers, parse_numbers
-from ..analysis.state import NamedPose, State, StateFileError, environment_versions
+from ..io.paste import ParsedNumbers, parse_numbers
+from ..io.limits import PASTE_LIMIT
+from ..io.settings import Choice, ConventionText, Floats, IntRange, Text, WidgetSettings, register_settings, setting
+from ..io.state import NamedPose, State, environment_versions
 from ..core.convention import Convention
 from ..core.checks import as_numbers
 from ..core.errors import PoseInputError
@@ -36,7 +40,7 @@ from ..view.readouts import STYLE_SHEET, matrix_html, panel_html
 from .controls import ConventionBar, KeyboardScope, OneMessageFigure
 from .sharing import SharePanel, python_call
 
-__all__ = ["DebugDesk", "EXPECTED_KINDS", "DESK_FIELDS"]
+__all__ = ["DebugDesk", "EXPECTED_KINDS", "DESK_FIELDS", "DeskSettings"]
 
 #: what the typed expected numbers are ("by count" lets the count decide, as expected_pose does)
 EXPECTED_KINDS = ("by count", "euler", "quaternion", "rotation-vector", "matrix", "transform", "position-euler",
@@ -116,6 +120,23 @@ class _DeskShare(SharePanel):
         write_report(self.owner.to_state(), path, diagnosis=self.owner.diagnosis_lines(),
                      title="posekit debugging desk report")
         self.message.value = f"report written to <code>{html.escape(str(path.resolve()))}</code>"
+
+
+@register_settings
+@dataclass(frozen=True)
+class DeskSettings(WidgetSettings):
+    """What a :class:`DebugDesk` saves in a state file: the keyword arguments that rebuild it."""
+
+    kind: ClassVar[str] = "desk"
+    pasted: str = setting(Text(PASTE_LIMIT))
+    pairs: str = setting(Choice("one", "many"))
+    expected_source: str = setting(Choice(*(v for _, v in _SOURCES)))
+    expected_text: str = setting(Text())
+    expected_kind: str = setting(Choice(*EXPECTED_KINDS))
+    expected_matrix: tuple = setting(Floats(16))
+    convention: str = setting(ConventionText())
+    chosen: int = setting(IntRange(0, 99))
+    palette: str = setting(Choice("standard", "colour-blind"))
 
 
 class DebugDesk(w.VBox):
@@ -368,10 +389,10 @@ class DebugDesk(w.VBox):
 
     # --- sharing ------------------------------------------------------------------------
     def _settings(self) -> dict:
-        return {"pasted": self.pasted, "pairs": self.pairs, "expected_source": self.expected_source,
-                "expected_text": self.expected_text, "expected_kind": self.expected_kind,
-                "expected_matrix": tuple(float(v) for v in self.expected_matrix),
-                "convention": self.convention, "chosen": int(self.chosen), "palette": self.palette}
+        return DeskSettings(pasted=self.pasted, pairs=self.pairs, expected_source=self.expected_source,
+                            expected_text=self.expected_text, expected_kind=self.expected_kind,
+                            expected_matrix=tuple(float(v) for v in self.expected_matrix),
+                            convention=self.convention, chosen=int(self.chosen), palette=self.palette).as_dict()
 
     def to_state(self, notes: str = "") -> State:
         """The pasted text, expected pose and chosen explanation (plus the poses drawn) as a State."""
@@ -386,10 +407,12 @@ class DebugDesk(w.VBox):
 
     @classmethod
     def from_state(cls, state: State) -> "DebugDesk":
-        """Rebuild a desk from a state (e.g. ``load_state("bug.json")``)."""
-        if state.widget != "desk":
-            raise StateFileError(f"state is for widget {state.widget!r}, not 'desk'")
-        return cls(**dict(state.settings))
+        """Rebuild a desk from a state (e.g. ``load_state("bug.json")``).
+
+        The settings are checked with :class:`DeskSettings` first; a bad one raises
+        :class:`~posekit.io.state.StateFileError` naming ``settings.<field>``.
+        """
+        return cls(**DeskSettings.from_state(state).as_dict())
 
     def code_cell(self) -> str:
         """A notebook cell that rebuilds exactly this desk."""

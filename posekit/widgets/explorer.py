@@ -8,6 +8,8 @@ from them by posekit's core, never stored a second time.
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
+from typing import ClassVar
 
 import ipywidgets as w
 import numpy as np
@@ -22,11 +24,12 @@ from ..core.steps import euler_steps
 from ..core.transforms import Pose, make_transform, write_transform
 from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET, gauge_html, matrix_html, numbers_html, panel_html, row_html, words_html
-from ..analysis.state import NamedPose, State, StateFileError, environment_versions
+from ..io.settings import Bool, Choice, ConventionText, Floats, WidgetSettings, register_settings, setting
+from ..io.state import NamedPose, State, environment_versions
 from .controls import ConventionBar, KeyboardScope, NumberRow, OneMessageFigure
 from .sharing import SharePanel, python_call
 
-__all__ = ["Explorer"]
+__all__ = ["Explorer", "ExplorerSettings"]
 
 _FRAME, _BODY, _STEP1, _STEP2 = 1, 2, 3, 4
 EXTENT = 1.9  # fixed scene range, so the view never rescales while a slider moves
@@ -36,6 +39,21 @@ def _ranges(conv: Convention):
     if conv.degrees:
         return -180.0, 180.0, 1.0
     return -math.pi, math.pi, 0.01
+
+
+@register_settings
+@dataclass(frozen=True)
+class ExplorerSettings(WidgetSettings):
+    """What an :class:`Explorer` saves in a state file: the keyword arguments that rebuild it."""
+
+    kind: ClassVar[str] = "explorer"
+    angles: tuple = setting(Floats(3))
+    translation: tuple = setting(Floats(3))
+    convention: str = setting(ConventionText())
+    keep: str = setting(Choice("numbers", "orientation"))
+    show_steps: bool = setting(Bool())
+    show_body: bool = setting(Bool())
+    palette: str = setting(Choice("standard", "colour-blind"))
 
 
 class Explorer(w.VBox):
@@ -155,23 +173,24 @@ class Explorer(w.VBox):
 
     # --- sharing ------------------------------------------------------------------------
     def _settings(self) -> dict:
-        return {"angles": tuple(float(v) for v in self.angles),
-                "translation": tuple(float(v) for v in self.translation),
-                "convention": self.convention, "keep": self.keep, "show_steps": bool(self.show_steps),
-                "show_body": bool(self.show_body), "palette": self.palette}
+        return ExplorerSettings(angles=tuple(float(v) for v in self.angles),
+                                translation=tuple(float(v) for v in self.translation),
+                                convention=self.convention, keep=self.keep, show_steps=bool(self.show_steps),
+                                show_body=bool(self.show_body), palette=self.palette).as_dict()
 
     def to_state(self, notes: str = "") -> State:
-        """Everything this explorer shows, as a posekit :class:`~posekit.analysis.state.State`."""
+        """Everything this explorer shows, as a posekit :class:`~posekit.io.state.State`."""
         pose = NamedPose("explorer pose", self.to_pose().matrix, self.convention_value())
         return State("explorer", self._settings(), (pose,), (), notes)
 
     @classmethod
     def from_state(cls, state: State) -> "Explorer":
-        """Rebuild an explorer from a state (e.g. ``load_state("bug.json")``)."""
-        if state.widget != "explorer":
-            raise StateFileError(f"state is for widget {state.widget!r}, not 'explorer'")
-        s = dict(state.settings)
-        return cls(**s)
+        """Rebuild an explorer from a state (e.g. ``load_state("bug.json")``).
+
+        The settings are checked with :class:`ExplorerSettings` first, whatever checked them
+        before; a bad one raises :class:`~posekit.io.state.StateFileError` naming ``settings.<field>``.
+        """
+        return cls(**ExplorerSettings.from_state(state).as_dict())
 
     def code_cell(self) -> str:
         """A notebook cell that rebuilds exactly this explorer."""

@@ -10,6 +10,9 @@ keyboard (Tab to a control; arrow keys in a list; Space or Enter on a button).
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+from typing import ClassVar
+
 import ipywidgets as w
 import numpy as np
 import plotly.graph_objects as go
@@ -17,16 +20,18 @@ import traitlets as t
 
 from ..analysis.frames_graph import FrameGraph, convention_words
 from ..core.convention import Convention
-from ..core.errors import PoseInputError, WrongTypeError
+from ..core.errors import PoseInputError, WrongTypeError, isolate_controls
 from ..core.reading import as_convention
 from ..view.graph import graph_figure, graph_traces, loop_check_html, readout_html
 from ..view.readouts import words_html
-from ..analysis.state import Edge as StateEdge
-from ..analysis.state import NamedPose, State, StateFileError, environment_versions, float_literal
+from ..io.settings import (Bool, Choice, ConventionText, Float, Text, Texts, WidgetSettings, fail, register_settings,
+                           setting, shown)
+from ..io.state import Edge as StateEdge
+from ..io.state import NamedPose, State, environment_versions, float_literal
 from .controls import ConventionBar, KeyboardScope
 from .sharing import SharePanel, python_call
 
-__all__ = ["GraphExplorer", "EDGE_FIELDS", "KeyboardScope"]
+__all__ = ["GraphExplorer", "EDGE_FIELDS", "KeyboardScope", "GraphSettings"]
 
 #: The convention settings that change how an edge of each kind is read.
 EDGE_FIELDS = {
@@ -43,6 +48,32 @@ def _edge_label(graph: FrameGraph, i: int) -> str:
     e = graph.edges[i]
     src = f" ({e.source})" if e.source else ""
     return f"[{i}] {e.parent} \u2013 {e.child}{src}"
+
+
+_FRAME_NAME = Text(200, lines=False, empty=False, name=True, strip=True)
+
+
+@register_settings
+@dataclass(frozen=True)
+class GraphSettings(WidgetSettings):
+    """What a :class:`GraphExplorer` saves in a state file besides the edges (which go in the state's ``edges``)."""
+
+    kind: ClassVar[str] = "graph"
+    planar: bool = setting(Bool())
+    angle_tolerance: float = setting(Float())
+    distance_tolerance: float = setting(Float())
+    sources: tuple = setting(Texts(Text(200, lines=False, name=True)))
+    from_frame: str = setting(_FRAME_NAME)
+    into_frame: str = setting(_FRAME_NAME)
+    root: str = setting(_FRAME_NAME)
+    readout_convention: str = setting(ConventionText())
+    palette: str = setting(Choice("standard", "colour-blind"))
+
+
+def _reason(exc: Exception) -> str:
+    """A refusal's own words, safe and short, to quote inside a state error."""
+    text = isolate_controls(str(exc))
+    return text if len(text) <= 300 else text[:300] + "..."
 
 
 class GraphExplorer(w.VBox):
@@ -187,10 +218,10 @@ class GraphExplorer(w.VBox):
 
     def _settings(self) -> dict:
         g = self.graph
-        return {"planar": bool(g.planar), "angle_tolerance": float(g.angle_tolerance),
-                "distance_tolerance": float(g.distance_tolerance), "sources": tuple(e.source for e in g.edges),
-                "from_frame": self.from_frame, "into_frame": self.into_frame, "root": self.root,
-                "readout_convention": self.readout_convention, "palette": self.palette}
+        return GraphSettings(planar=bool(g.planar), angle_tolerance=float(g.angle_tolerance),
+                             distance_tolerance=float(g.distance_tolerance), sources=tuple(e.source for e in g.edges),
+                             from_frame=self.from_frame, into_frame=self.into_frame, root=self.root,
+                             readout_convention=self.readout_convention, palette=self.palette).as_dict()
 
     def to_state(self, notes: str = "") -> State:
         """The graph's edges as entered (numbers, kind, convention), the chosen lookup and view settings."""
@@ -206,18 +237,35 @@ class GraphExplorer(w.VBox):
 
     @classmethod
     def from_state(cls, state: State) -> "GraphExplorer":
-        """Rebuild the graph edge by edge from a state and open the explorer on it."""
-        if state.widget != "graph":
-            raise StateFileError(f"state is for widget {state.widget!r}, not 'graph'")
-        s = dict(state.settings)
-        if len(s["sources"]) != len(state.edges):
-            raise StateFileError(f"state settings.sources: {len(s['sources'])} names for {len(state.edges)} edges")
-        graph = FrameGraph(planar=s["planar"], angle_tolerance=s["angle_tolerance"],
-                           distance_tolerance=s["distance_tolerance"])
-        for e, source in zip(state.edges, s["sources"]):
-            graph = graph.with_edge(e.parent, e.child, list(e.numbers), e.kind, e.convention, source)
-        return cls(graph, from_frame=s["from_frame"], into_frame=s["into_frame"], root=s["root"],
-                   readout_convention=s["readout_convention"], palette=s["palette"])
+        """Rebuild the graph edge by edge from a state and open the explorer on it.
+
+        The settings are checked with :class:`GraphSettings` first; an edge the graph cannot
+        take raises :class:`~posekit.io.state.StateFileError` naming ``edges[i]``, and a frame
+        name the graph does not hold names ``settings.<field>``.
+        """
+        s = GraphSettings.from_state(state)
+        if len(s.sources) != len(state.edges):
+            raise fail("settings.sources", f"got {len(s.sources)} names for {len(state.edges)} edges",
+                       "one measurement name per edge")
+        options = {"planar": s.planar}
+        for name in ("angle_tolerance", "distance_tolerance"):  # one at a time, to name the one refused
+            options[name] = getattr(s, name)
+            try:
+                graph = FrameGraph(**options)
+            except PoseInputError as exc:
+                raise fail(f"settings.{name}", _reason(exc), "a tolerance a frame graph accepts") from None
+        for i, (e, source) in enumerate(zip(state.edges, s.sources)):
+            try:
+                graph = graph.with_edge(e.parent, e.child, list(e.numbers), e.kind, e.convention, source)
+            except PoseInputError as exc:
+                kind = "planar" if s.planar else "spatial"
+                raise fail(f"edges[{i}]", _reason(exc), f"an edge a {kind} frame graph accepts") from None
+        for name in ("from_frame", "into_frame", "root"):
+            if getattr(s, name) not in graph.frames:
+                raise fail(f"settings.{name}", f"got {shown(getattr(s, name))}, not a frame of the graph",
+                           "one of the frames: " + ", ".join(repr(f) for f in graph.frames[:20]))
+        return cls(graph, from_frame=s.from_frame, into_frame=s.into_frame, root=s.root,
+                   readout_convention=s.readout_convention, palette=s.palette)
 
     def code_cell(self) -> str:
         """A notebook cell that rebuilds exactly this graph and explorer."""

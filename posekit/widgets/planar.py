@@ -7,6 +7,8 @@ matrix is recomputed by posekit's core on every change.
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
+from typing import ClassVar
 
 import ipywidgets as w
 import numpy as np
@@ -17,13 +19,27 @@ from ..core.errors import PoseInputError
 from ..core.transforms import checked_transform, invert_transform, make_planar, planar_parts
 from ..view.frames import planar_figure
 from ..view.readouts import STYLE_SHEET, matrix_html, panel_html, words_html
-from ..analysis.state import NamedPose, State, StateFileError, environment_versions
+from ..io.settings import Choice, Float, WidgetSettings, register_settings, setting
+from ..io.state import NamedPose, State, environment_versions
 from .controls import KeyboardScope, NumberRow
 from .sharing import SharePanel, python_call
 
-__all__ = ["PlanarExplorer"]
+__all__ = ["PlanarExplorer", "PlanarSettings"]
 
 _FRAME = 1
+
+
+@register_settings
+@dataclass(frozen=True)
+class PlanarSettings(WidgetSettings):
+    """What a :class:`PlanarExplorer` saves in a state file: the keyword arguments that rebuild it."""
+
+    kind: ClassVar[str] = "planar"
+    x: float = setting(Float())
+    y: float = setting(Float())
+    heading: float = setting(Float())
+    unit: str = setting(Choice("degrees", "radians"))
+    direction: str = setting(Choice("parent-from-child", "child-from-parent"))
 
 
 class PlanarExplorer(w.VBox):
@@ -87,8 +103,8 @@ class PlanarExplorer(w.VBox):
         return make_planar(self.x, self.y, self.heading, degrees=self.unit == "degrees")
 
     def _settings(self) -> dict:
-        return {"x": float(self.x), "y": float(self.y), "heading": float(self.heading), "unit": self.unit,
-                "direction": self.direction}
+        return PlanarSettings(x=float(self.x), y=float(self.y), heading=float(self.heading), unit=self.unit,
+                              direction=self.direction).as_dict()
 
     def to_state(self, notes: str = "") -> State:
         """The frame as a posekit State (its SE(2) pose stored as the equivalent 4x4)."""
@@ -100,9 +116,8 @@ class PlanarExplorer(w.VBox):
 
     @classmethod
     def from_state(cls, state: State) -> "PlanarExplorer":
-        if state.widget != "planar":
-            raise StateFileError(f"state is for widget {state.widget!r}, not 'planar'")
-        return cls(**dict(state.settings))
+        """Rebuild from a state; its settings are checked with :class:`PlanarSettings` first."""
+        return cls(**PlanarSettings.from_state(state).as_dict())
 
     def code_cell(self) -> str:
         """A notebook cell that rebuilds exactly this planar explorer."""

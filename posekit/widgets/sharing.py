@@ -3,20 +3,28 @@
 Each widget implements three small methods — ``to_state()``, ``from_state(state)``
 (a classmethod) and ``code_cell()`` — and shows a :class:`SharePanel` that calls
 them.  The panel writes files only where the user says (a path box), and says what
-it wrote.
+it wrote.  Files are written in one step (:func:`posekit.io.limits.write_atomic`), so a
+failed save leaves an earlier file as it was; every message shown is HTML-escaped with
+hidden characters shown as ``<U+XXXX>``.
 """
 
 from __future__ import annotations
 
 import html
+import unicodedata
 from pathlib import Path
 
 import ipywidgets as w
 
-from ..analysis.state import State, float_literal, save_state, state_to_json
-from ..core.errors import PoseInputError
+from ..core.errors import PoseInputError, WrongTypeError, excerpt, isolate_controls
+from ..io.limits import NAME_LIMIT
+from ..io.state import State, float_literal, save_state, state_to_json
 
-__all__ = ["SharePanel", "python_call"]
+__all__ = ["SharePanel", "python_call", "ShareNameError"]
+
+
+class ShareNameError(PoseInputError):
+    """The file name typed into a share panel cannot name a file."""
 
 
 def _literal(v) -> str:
@@ -32,7 +40,8 @@ def _literal(v) -> str:
         inner = ", ".join(_literal(x) for x in v)
         return f"({inner},)" if isinstance(v, tuple) and len(v) == 1 else (f"({inner})" if isinstance(v, tuple)
                                                                            else f"[{inner}]")
-    raise PoseInputError(f"cannot write {type(v).__name__} into a code cell")
+    raise WrongTypeError(f"code cell: cannot write a {type(v).__name__} as a Python literal; expected true/false, "
+                         "a number, text or a list or tuple of those")
 
 
 def python_call(module: str, name: str, settings: dict, versions: dict, variable: str = "widget") -> str:
@@ -76,18 +85,26 @@ class SharePanel(w.VBox):
         try:
             action()
         except (PoseInputError, OSError) as exc:
-            self.message.value = f"<span style='color:#b2182b'>Not done: {html.escape(str(exc))}</span>"
+            self.message.value = f"<span style='color:#b2182b'>Not done: {_safe(str(exc))}</span>"
 
     def _stem(self) -> Path:
         name = self.name_box.value.strip()
-        if not name or any(c in name for c in "\0"):
-            raise PoseInputError(f"file name: got {name!r}; type a file name such as 'camera-mount-bug'")
+        accepted = (f"a file name such as 'camera-mount-bug' (1 to {NAME_LIMIT} characters, no control, "
+                    "format or line-separator characters)")
+        if not name:
+            raise ShareNameError(f"file name box: got empty text; expected {accepted}")
+        if len(name) > NAME_LIMIT:
+            raise ShareNameError(f"file name box: got {len(name)} characters {excerpt(name, 30)}; expected {accepted}")
+        for i, ch in enumerate(name):
+            if unicodedata.category(ch) in ("Cc", "Cf", "Cs", "Zl", "Zp"):
+                raise ShareNameError(f"file name box: got {excerpt(name, 40)}, holding U+{ord(ch):04X} at position "
+                                     f"{i}; expected {accepted}")
         return Path(name)
 
     def _save(self) -> None:
         path = self._stem().with_suffix(".json")
         save_state(self.owner.to_state(), path)
-        self.message.value = f"state written to <code>{html.escape(str(path.resolve()))}</code>"
+        self.message.value = f"state written to <code>{_safe(str(path.resolve()))}</code>"
 
     def _show_code(self) -> None:
         self.code.value = self.owner.code_cell()
@@ -100,12 +117,17 @@ class SharePanel(w.VBox):
         path = self._stem().with_suffix(".html")
         state = self.owner.to_state()
         write_report(state, path)
-        self.message.value = f"report written to <code>{html.escape(str(path.resolve()))}</code>"
+        self.message.value = f"report written to <code>{_safe(str(path.resolve()))}</code>"
+
+
+def _safe(text: str) -> str:
+    """Text for an HTML message: hidden characters shown as <U+XXXX>, then escaped."""
+    return html.escape(isolate_controls(text))
 
 
 def state_json(owner) -> str:
     """The owner's state as JSON text (for tests and for copying)."""
     state = owner.to_state()
     if not isinstance(state, State):
-        raise PoseInputError("to_state() must return a posekit State")
+        raise WrongTypeError(f"{type(owner).__name__}.to_state(): got {type(state).__name__}; expected a posekit State")
     return state_to_json(state)

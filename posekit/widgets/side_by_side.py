@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import ClassVar
 
 import ipywidgets as w
 import numpy as np
@@ -32,12 +33,13 @@ from ..core.reading import as_convention, read_rotation, write_rotation
 from ..view.readouts import gauge_html, matrix_html, numbers_html, panel_html, words_html
 from ..view.sweep import (SWEEP_TRACES, angle_name, apply_patch, family_data, family_figure, step_marks, sweep_figure,
                           sweep_patch)
-from ..analysis.state import NamedPose, State, StateFileError, environment_versions
+from ..io.settings import ConventionText, Floats, IntRange, WidgetSettings, fail, register_settings, setting
+from ..io.state import NamedPose, State, environment_versions
 from ..core.transforms import make_transform
 from .controls import ConventionBar, KeyboardScope, NumberRow, OneMessageFigure
 from .sharing import SharePanel, python_call
 
-__all__ = ["SingularityView", "StepReadout", "SweepSetupError", "BAR_FIELDS", "MAX_STEPS"]
+__all__ = ["SingularityView", "StepReadout", "SweepSetupError", "BAR_FIELDS", "MAX_STEPS", "SingularitySettings"]
 
 #: The convention fields the view offers (the others are kept as given).
 BAR_FIELDS = ("sequence", "axes", "unit", "wrap", "scalar", "algebra")
@@ -130,6 +132,28 @@ def _default_range(angles, swept: int, conv: Convention) -> tuple[float, float]:
         return c - half, c + half
     turn = 180.0 * _unit_scale(conv)
     return float(angles[swept]) - turn, float(angles[swept]) + turn
+
+
+@register_settings
+@dataclass(frozen=True)
+class SingularitySettings(WidgetSettings):
+    """What a :class:`SingularityView` saves in a state file: the keyword arguments that rebuild it."""
+
+    kind: ClassVar[str] = "singularity"
+    angles: tuple = setting(Floats(3))
+    swept: int = setting(IntRange(0, 2))
+    sweep_range: tuple = setting(Floats(2))
+    steps: int = setting(IntRange(2, MAX_STEPS))
+    position: int = setting(IntRange(0, MAX_STEPS - 1))
+    convention: str = setting(ConventionText())
+
+    def check_together(self) -> None:
+        if self.sweep_range[0] == self.sweep_range[1]:
+            raise fail("settings.sweep_range", f"got two equal ends {list(self.sweep_range)}",
+                       "two different finite numbers (from, to)")
+        if self.position >= self.steps:
+            raise fail("settings.position", f"got {self.position} with {self.steps} steps",
+                       f"a step index from 0 to {self.steps - 1}")
 
 
 class SingularityView(w.VBox):
@@ -258,9 +282,9 @@ class SingularityView(w.VBox):
 
     # --- sharing ----------------------------------------------------------------------------
     def _settings(self) -> dict:
-        return {"angles": tuple(float(v) for v in self.angles), "swept": int(self.swept),
-                "sweep_range": tuple(float(v) for v in self.sweep_range), "steps": int(self.steps),
-                "position": int(self.position), "convention": self.convention}
+        return SingularitySettings(angles=tuple(float(v) for v in self.angles), swept=int(self.swept),
+                                   sweep_range=tuple(float(v) for v in self.sweep_range), steps=int(self.steps),
+                                   position=int(self.position), convention=self.convention).as_dict()
 
     def to_state(self, notes: str = "") -> State:
         """The sweep set-up and the rotation at the current step, as a posekit State."""
@@ -270,9 +294,8 @@ class SingularityView(w.VBox):
 
     @classmethod
     def from_state(cls, state: State) -> "SingularityView":
-        if state.widget != "singularity":
-            raise StateFileError(f"state is for widget {state.widget!r}, not 'singularity'")
-        return cls(**dict(state.settings))
+        """Rebuild from a state; its settings are checked with :class:`SingularitySettings` first."""
+        return cls(**SingularitySettings.from_state(state).as_dict())
 
     def code_cell(self) -> str:
         """A notebook cell that rebuilds exactly this view."""

@@ -11,13 +11,16 @@ one used row before it.  Glue only: the report comes from
 from __future__ import annotations
 
 import html
+from dataclasses import dataclass
+from typing import ClassVar
 
 import ipywidgets as w
 import numpy as np
 import plotly.graph_objects as go
 import traitlets as t
 
-from ..analysis.state import NamedPose, State, StateFileError, environment_versions
+from ..io.settings import MAX_TEXT, IntRange, Text, WidgetSettings, fail, register_settings, setting
+from ..io.state import NamedPose, State, environment_versions
 from ..analysis.trajectory import TrajectoryReport
 from ..core.errors import PoseInputError
 from ..core.transforms import make_transform
@@ -27,10 +30,20 @@ from ..view.trajectory import FLAG_STYLES, flagged_spans, row_rotation, trajecto
 from .controls import KeyboardScope
 from .sharing import SharePanel
 
-__all__ = ["TrajectoryView"]
+__all__ = ["TrajectoryView", "TrajectorySettings"]
 
 _FRAME, _PREVIOUS = 1, 2
 _FIRST_FLAG_TRACE = 9  # 3 Euler, 4 quaternion, the rate and the rate limit
+
+
+@register_settings
+@dataclass(frozen=True)
+class TrajectorySettings(WidgetSettings):
+    """What a :class:`TrajectoryView` saves: the chosen span and the report in words (not the data)."""
+
+    kind: ClassVar[str] = "trajectory"
+    chosen_span: int = setting(IntRange(-1, 100_000))
+    summary: str = setting(Text(MAX_TEXT))
 
 
 class TrajectoryView(w.VBox):
@@ -169,8 +182,8 @@ class TrajectoryView(w.VBox):
                 if rot is not None:
                     poses.append(NamedPose(f"{name} (row {r})", make_transform(rot, np.zeros(3)),
                                            self.report.convention))
-        return State("trajectory", {"chosen_span": int(self.chosen_span),
-                                    "summary": self.report.summary()[:20_000]}, tuple(poses), (), notes)
+        settings = TrajectorySettings(chosen_span=int(self.chosen_span), summary=self.report.summary()[:MAX_TEXT])
+        return State("trajectory", settings.as_dict(), tuple(poses), (), notes)
 
     def code_cell(self) -> str:
         """A cell that reopens this view on the same report.
@@ -191,7 +204,21 @@ class TrajectoryView(w.VBox):
 
     @classmethod
     def from_state(cls, state: State, report: TrajectoryReport) -> "TrajectoryView":
-        """Rebuild the view of ``report`` with the span chosen in ``state``."""
-        if state.widget != "trajectory":
-            raise StateFileError(f"state is for widget {state.widget!r}, not 'trajectory'")
-        return cls(report, chosen_span=state.settings["chosen_span"])
+        """Rebuild the view of ``report`` with the span chosen in ``state``.
+
+        The settings are checked with :class:`TrajectorySettings`; the state must have been
+        saved from this same report (its summary matches) and name one of its spans.
+        """
+        s = TrajectorySettings.from_state(state)
+        if not isinstance(report, TrajectoryReport):
+            raise PoseInputError(f"TrajectoryView.from_state needs the TrajectoryReport the state was saved from, "
+                                 f"got {type(report).__name__}")
+        if s.summary != report.summary()[:MAX_TEXT]:
+            raise fail("settings.summary", "the report in words differs from this report's",
+                       "the state of a view of this same report (rebuild the report from the same log with the "
+                       "same settings)")
+        spans, _ = flagged_spans(report)
+        if s.chosen_span >= len(spans):
+            raise fail("settings.chosen_span", f"got {s.chosen_span}; this report has {len(spans)} flagged spans",
+                       f"-1 (none) to {len(spans) - 1}")
+        return cls(report, chosen_span=s.chosen_span)

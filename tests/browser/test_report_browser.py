@@ -7,7 +7,7 @@ from pathlib import Path
 import pytest
 
 import posekit as pk
-from posekit.analysis.state import NamedPose, State
+from posekit.io.state import NamedPose, State
 from posekit.view.report import write_report
 
 HOSTILE = "<img src=x onerror=alert(1)>"
