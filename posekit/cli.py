@@ -14,8 +14,13 @@ reads it, or ``-`` to read standard input.  Convention arguments use posekit's t
 form (``Convention.parse``), e.g. ``"scalar=last"`` or ``"sequence=x-y-z axes=extrinsic
 unit=degrees"``.  ``--json`` prints one JSON object instead of text.  Exit status: 0 on
 success, 1 when ``diagnose`` finds no single slip that explains the numbers within the
-tolerances, 2 for bad input (the message goes to standard error), 3 when the tour cannot
-start (JupyterLab is not installed: the message names the extra to install).
+tolerances, 2 for bad input (one line on standard error: what was wrong, where, a short
+excerpt of the value, what is accepted; no traceback), 3 when the tour cannot start
+(JupyterLab is not installed: the message names the extra to install).
+
+Sizes: an argument or standard input is read up to 1 MiB (``PASTE_LIMIT``), a file of
+poses up to 16 MiB (``TEXT_FILE_LIMIT``), never more (``yes | posekit check -`` stops
+there); ``--input-limit BYTES`` (e.g. ``64MiB``) raises or lowers both.
 """
 
 from __future__ import annotations
@@ -24,13 +29,16 @@ import argparse
 import json
 import math
 import os
+import re
 import shutil
 import subprocess
 import sys
+import warnings
 
 import numpy as np
 
-from .core.errors import PoseInputError
+from .core.errors import PoseInputError, excerpt, isolate_controls, odd_characters
+from .io.limits import PASTE_LIMIT, TEXT_FILE_LIMIT, FileReadError, InputTooLargeError, read_bounded_text, size_words
 
 __all__ = ["main", "build_parser"]
 
@@ -38,8 +46,65 @@ _ROTATION_KINDS = ("matrix", "quaternion", "euler", "rotation-vector", "axis-ang
 _TRANSFORM_KINDS = ("transform", "position-quaternion", "position-euler")
 
 
+class CliInputError(PoseInputError):
+    """A command-line option has a value the command cannot use (a tolerance that is no number, a size of 0...)."""
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse, but a usage error is one line on standard error (values quoted as short excerpts), exit 2."""
+
+    def _check_value(self, action, value):  # argparse's hook: its own message would quote the value whole
+        if action.choices is not None and value not in action.choices:
+            choices = ", ".join(map(str, action.choices))
+            raise argparse.ArgumentError(action, f"invalid choice: {excerpt(value, 40)}; accepted: {choices}")
+
+    def error(self, message):  # noqa: D401 - argparse's hook
+        line = _one_line(message)
+        tail = "" if "accepted:" in line else f"; accepted: what '{self.prog} --help' lists"
+        self.exit(2, f"{self.prog}: error: {line}{tail}\n")
+
+
+def _real(flag: str, unit: str, example: str, low: float, high: float):
+    """An argparse type: a number from ``low`` to ``high``, or a message naming the flag and what is accepted."""
+    def parse(text: str) -> float:
+        try:
+            value = float(text) if text.strip().isascii() else None
+        except ValueError:
+            value = None
+        if value is None or not low <= value <= high:  # NaN fails too
+            raise argparse.ArgumentTypeError(f"got {excerpt(text, 40)}; accepted: a number of {unit} from {low:g} "
+                                             f"to {high:g}, e.g. {flag} {example}")
+        return value
+    return parse
+
+
+def _whole(flag: str, what: str, example: str, sizes: bool = False):
+    """An argparse type: a whole number >= 1 (with ``sizes``, also 64KiB, 16MiB, 1GiB)."""
+    def parse(text: str) -> int:
+        t = text.strip()
+        scale = 1
+        if sizes:
+            for suffix, shift in (("KiB", 10), ("MiB", 20), ("GiB", 30)):
+                if t.endswith(suffix):
+                    t, scale = t[:-len(suffix)].strip(), 1 << shift
+                    break
+        if not (t.isascii() and t.isdigit()) or int(t) < 1:
+            more = " (or with KiB, MiB, GiB)" if sizes else ""
+            raise argparse.ArgumentTypeError(f"got {excerpt(text, 40)}; accepted: a whole number of {what} >= 1"
+                                             f"{more}, e.g. {flag} {example}")
+        return int(t) * scale
+    return parse
+
+
+def _add_input_limit(parser) -> None:
+    parser.add_argument("--input-limit", type=_whole("--input-limit", "bytes", "64MiB", sizes=True), default=None,
+                        metavar="BYTES", help=f"the most bytes read from an argument or standard input (default "
+                                              f"{size_words(PASTE_LIMIT)}) or from a file of poses (default "
+                                              f"{size_words(TEXT_FILE_LIMIT)}); e.g. 64MiB")
+
+
 def build_parser() -> argparse.ArgumentParser:
-    p = argparse.ArgumentParser(prog="posekit", description="Find the convention that broke a pose.")
+    p = _Parser(prog="posekit", description="Find the convention that broke a pose.")
     sub = p.add_subparsers(dest="verb", metavar="VERB")
     sub.required = True
 
@@ -57,10 +122,14 @@ def build_parser() -> argparse.ArgumentParser:
                    help="score the 24 remaps with a handedness flip too (the default)")
     d.add_argument("--no-reflections", dest="reflections", action="store_false",
                    help="leave handedness flips out (faster; a reflected input then stays unexplained)")
-    d.add_argument("--rotation-tolerance", type=float, default=0.5, help="rotation noise scale in degrees (0.5)")
-    d.add_argument("--translation-tolerance", type=float, default=0.005, help="translation noise scale in metres")
-    d.add_argument("--limit", type=int, default=5, help="how many explanations to show (5)")
+    d.add_argument("--rotation-tolerance", type=_real("--rotation-tolerance", "degrees", "0.5", 1e-148, 180.0),
+                   default=0.5, help="rotation noise scale in degrees (0.5)")
+    d.add_argument("--translation-tolerance", type=_real("--translation-tolerance", "metres", "0.005", 1e-150, 1e150),
+                   default=0.005, help="translation noise scale in metres")
+    d.add_argument("--limit", type=_whole("--limit", "explanations", "5"), default=5,
+                   help="how many explanations to show (5)")
     d.add_argument("--json", action="store_true", help="print JSON")
+    _add_input_limit(d)
 
     c = sub.add_parser("convert", help="convert numbers between representations and conventions")
     c.add_argument("numbers", help="numbers as pasted, or - for standard input")
@@ -70,10 +139,12 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--to", dest="target", default=None, help="convention to write (posekit text form)")
     c.add_argument("--normalise", action="store_true", help="divide a quaternion by its length on purpose")
     c.add_argument("--json", action="store_true", help="print JSON")
+    _add_input_limit(c)
 
     k = sub.add_parser("check", help="validate one input and list every way it can be read")
     k.add_argument("numbers", help="numbers as pasted, or - for standard input")
     k.add_argument("--json", action="store_true", help="print JSON")
+    _add_input_limit(k)
 
     tour = sub.add_parser("tour", help="copy the notebook tour into a folder of yours and open it in JupyterLab")
     tour.add_argument("--folder", default=".", help="where the fresh copy goes (default: the working folder)")
@@ -86,38 +157,89 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
-def _text(value: str | None, what: str) -> str:
+def _too_large(what: str, limit: int) -> CliInputError:
+    return CliInputError(f"{what} is larger than the limit of {size_words(limit)}; nothing past the limit was read; "
+                         f"accepted: at most {size_words(limit)}: pass --input-limit BYTES (e.g. --input-limit "
+                         "64MiB) to read more, or split the input")
+
+
+def _text(value: str | None, what: str, input_limit: int | None = None) -> str:
+    """An argument's text, or standard input's for ``-``: at most ``--input-limit`` (default 1 MiB)."""
+    limit = input_limit or PASTE_LIMIT
     if value is None:
-        raise PoseInputError(f"{what} is missing; give it as text (or - for standard input)")
-    if value == "-":
-        return sys.stdin.read()
-    return value
-
-
-def _read_lines(path: str, what: str) -> np.ndarray:
-    from .analysis.parse import parse_numbers
-
+        raise CliInputError(f"{what} is missing; accepted: the numbers as text, or - to read standard input")
     try:
-        with open(path, encoding="utf-8") as fh:
-            lines = [ln for ln in fh.read().splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
-    except OSError as exc:
-        raise PoseInputError(f"{what}: cannot read file {path!r} ({exc.strerror}); expected a text file with one "
-                             "pose per line") from None
-    except UnicodeDecodeError as exc:
-        raise PoseInputError(f"{what}: file {path!r} is not UTF-8 text (byte 0x{exc.object[exc.start]:02x} at offset "
-                             f"{exc.start}); save it as UTF-8, one pose per line") from None
-    if not lines:
-        raise PoseInputError(f"{what}: file {path!r} holds no poses; expected one pose per line")
+        if value == "-":
+            text = read_bounded_text("-", limit=limit, what=f"{what} from")
+        elif len(value) > limit or len(value.encode("utf-8", "surrogatepass")) > limit:
+            raise InputTooLargeError(what)
+        else:
+            text = value
+        _refuse_other_digits(text, what)
+        return text
+    except InputTooLargeError:
+        size = len(value.encode("utf-8", "surrogatepass")) if value != "-" else 0
+        where = f"{what} from standard input (-)" if value == "-" else f"{what} ({len(value)} characters, {size} bytes)"
+        raise _too_large(where, limit) from None
+    except FileReadError as exc:
+        raise CliInputError(f"{exc}; accepted: UTF-8 text") from None
+
+
+_NOT_ASCII = re.compile(r"[^\x00-\x7f]")
+
+
+def _refuse_other_digits(text: str, what: str) -> None:
+    """Digits of other scripts (full-width '１', Arabic-Indic '١') look like ASCII digits: refused, named."""
+    if not _NOT_ASCII.search(text):
+        return
+    for m in _NOT_ASCII.finditer(text):
+        ch = m.group(0)
+        if ch.isdecimal():
+            at = m.start()
+            line = text.count("\n", 0, at) + 1
+            column = at - (text.rfind("\n", 0, at) + 1) + 1
+            raise CliInputError(f"{what}: line {line}, column {column}: {odd_characters(ch)[0].split(' at ')[0]} "
+                                "is a digit of another script that looks like an ASCII digit; accepted: the ASCII "
+                                "digits 0-9")
+
+
+def _read_lines(path: str, what: str, input_limit: int | None = None) -> np.ndarray:
+    """One pose per line of a file (``-``: standard input), at most ``--input-limit`` bytes (default 16 MiB).
+
+    Blank lines and lines starting with ``#`` are skipped; messages give the file's own line numbers.
+    """
+    from .io.paste import parse_numbers
+
+    limit = input_limit or TEXT_FILE_LIMIT
+    shown = "standard input" if path == "-" else excerpt(path, 80)
+    try:
+        text = read_bounded_text(path, limit=limit, what=f"{what} file")
+    except InputTooLargeError:
+        raise _too_large(f"{what}: file {shown}", limit) from None
+    except FileReadError as exc:
+        raise CliInputError(f"{exc}; accepted: a readable UTF-8 text file with one pose per line") from None
+    numbered = [(i, ln) for i, ln in enumerate(text.replace("\r\n", "\n").replace("\r", "\n").split("\n"),
+                                                start=1)
+                if ln.strip() and not ln.lstrip().startswith("#")]
+    if not numbered:
+        raise CliInputError(f"{what}: file {shown} holds no poses (only blank or # lines); accepted: one pose per "
+                            "line, e.g. 0.1 0.2 0.3 or 1 0 0 0")
     rows = []
-    for n, line in enumerate(lines, start=1):
+    for n, line in numbered:
         try:
-            rows.append(parse_numbers(line).numbers)
+            _refuse_other_digits(line, f"{what}: file {shown}, line {n}")
+            rows.append(parse_numbers(line, limit=max(PASTE_LIMIT, len(line))).numbers)  # the file is bounded
         except PoseInputError as exc:
-            raise PoseInputError(f"{what}: line {n} of {path!r}: {exc}") from None
-    widths = {len(r) for r in rows}
-    if len(widths) != 1:
-        raise PoseInputError(f"{what}: the lines of {path!r} hold different counts of numbers {sorted(widths)}; "
-                             "expected the same count on every line")
+            reason, column = getattr(exc, "reason", None), getattr(exc, "column", None)
+            if reason is not None and column is not None:
+                raise CliInputError(f"{what}: file {shown}, line {n}, column {column}: {reason}; accepted: one pose "
+                                    "per line as numbers separated by spaces, commas or semicolons") from None
+            raise CliInputError(f"{what}: file {shown}, line {n}: {exc}") from None
+    first = len(rows[0])
+    odd = next((k for k, r in enumerate(rows) if len(r) != first), None)
+    if odd is not None:
+        raise CliInputError(f"{what}: file {shown}, line {numbered[odd][0]} holds {len(rows[odd])} numbers but line "
+                            f"{numbered[0][0]} holds {first}; accepted: the same count of numbers on every line")
     return np.array(rows)
 
 
@@ -125,22 +247,36 @@ def _diagnose(args) -> tuple[dict, str]:
     from .analysis.diagnose import diagnose, diagnose_batch, expected_pose
 
     tol_r = math.radians(args.rotation_tolerance)
+    for a, b in (("expected", "observed"), ("expected_file", "observed_file")):
+        if getattr(args, a) == "-" and getattr(args, b) == "-":
+            raise CliInputError(f"--{a.replace('_', '-')} and --{b.replace('_', '-')} both read standard input (-); "
+                                "accepted: - for at most one of them, the other as text or a file")
     if args.expected_file or args.observed_file:
         if not (args.expected_file and args.observed_file):
-            raise PoseInputError("batch mode needs both --expected-file and --observed-file")
-        exp = _read_lines(args.expected_file, "expected poses")
-        obs = _read_lines(args.observed_file, "observed poses")
+            raise CliInputError("batch mode needs both --expected-file and --observed-file; accepted: both files, "
+                                "or --expected and --observed for one pose")
+        given = [f for f, v in (("--expected", args.expected), ("--observed", args.observed)) if v is not None]
+        if given:
+            raise CliInputError(f"{' and '.join(given)} given with --expected-file/--observed-file, and batch mode "
+                                "would ignore it; accepted: either the two files or --expected and --observed")
+        exp = _read_lines(args.expected_file, "expected poses", args.input_limit)
+        obs = _read_lines(args.observed_file, "observed poses", args.input_limit)
         if len(exp) != len(obs):
-            raise PoseInputError(f"batch mode: {len(exp)} expected poses but {len(obs)} observed ones; expected "
-                                 "one observed line per expected line")
+            raise CliInputError(f"batch mode: {len(exp)} expected poses but {len(obs)} observed ones; accepted: "
+                                "one observed line per expected line")
         exp_pose = expected_pose(exp, args.expected_kind, args.expected_convention)
         result = diagnose_batch(exp_pose, obs, assumed=args.assumed, assumed_kind=args.assumed_kind,
-                                   expected_convention=args.expected_convention, reflections=args.reflections,
-                                   rotation_tolerance=tol_r, translation_tolerance=args.translation_tolerance,
-                                   limit=args.limit)
+                                expected_convention=args.expected_convention, reflections=args.reflections,
+                                rotation_tolerance=tol_r, translation_tolerance=args.translation_tolerance,
+                                limit=args.limit)
         return result.as_dict(), result.summary(), result.explained
-    expected = _text(args.expected, "--expected")
-    observed = _text(args.observed, "--observed")
+    expected = _text(args.expected, "--expected", args.input_limit)
+    observed = _text(args.observed, "--observed", args.input_limit)
+    for flag, text in (("--expected", expected), ("--observed", observed)):
+        if len(text) > PASTE_LIMIT:  # one pose as text: the paste reader's own limit applies
+            raise CliInputError(f"{flag} holds {len(text)} characters; one pose given as text is read up to "
+                                f"{size_words(PASTE_LIMIT)}; accepted: at most {PASTE_LIMIT} characters, or many "
+                                "poses one per line in --expected-file and --observed-file")
     result = diagnose(expected, observed, assumed=args.assumed, assumed_kind=args.assumed_kind,
                          expected_kind=args.expected_kind, expected_convention=args.expected_convention,
                          reflections=args.reflections, rotation_tolerance=tol_r,
@@ -152,21 +288,24 @@ def _kind_by_count(n: int) -> str:
     kinds = {3: "euler", 4: "quaternion", 9: "matrix", 6: "position-euler", 7: "position-quaternion",
              12: "transform", 16: "transform"}
     if n not in kinds:
-        raise PoseInputError(f"convert: got {n} numbers; expected 3, 4, 6, 7, 9, 12 or 16 (or give --from-kind)")
+        raise CliInputError(f"convert: got {n} numbers; accepted: 3, 4, 6, 7, 9, 12 or 16 numbers (or give "
+                            "--from-kind)")
     return kinds[n]
 
 
 def _convert(args) -> tuple[dict, str]:
     import posekit as pk
-    from .analysis.parse import parse_numbers
+    from .io.paste import parse_numbers
 
-    parsed = parse_numbers(_text(args.numbers, "numbers"))
+    text = _text(args.numbers, "numbers", args.input_limit)
+    parsed = parse_numbers(text, limit=max(PASTE_LIMIT, len(text)))                # bounded by --input-limit
     nums = np.asarray(parsed.numbers)
     kind = args.from_kind or _kind_by_count(nums.size)
     allowed = _ROTATION_KINDS + _TRANSFORM_KINDS
     for k, flag in ((kind, "--from-kind"), (args.to_kind, "--to-kind")):
         if k not in allowed:
-            raise PoseInputError(f"convert: {flag} {k!r} is not a kind posekit knows; accepted: {', '.join(allowed)}")
+            raise CliInputError(f"convert: {flag} {excerpt(k, 40)} is not a kind posekit knows; accepted: "
+                                f"{', '.join(allowed)}")
     source = pk.as_convention(args.source)
     target = pk.as_convention(args.target)
     if kind in _TRANSFORM_KINDS:
@@ -179,7 +318,7 @@ def _convert(args) -> tuple[dict, str]:
     else:
         r = pk.read_rotation(nums, kind, source, normalise=args.normalise)
         if args.to_kind in _TRANSFORM_KINDS:
-            raise PoseInputError(f"convert: a {kind} has no translation, so it cannot be written as {args.to_kind}; "
+            raise CliInputError(f"convert: a {kind} has no translation, so it cannot be written as {args.to_kind}; "
                                  f"accepted targets: {', '.join(_ROTATION_KINDS)}")
         out = pk.write_rotation(r, args.to_kind, target, flat=args.to_kind == "matrix")
     out = np.round(np.asarray(out, dtype=float), 12) + 0.0
@@ -191,9 +330,10 @@ def _convert(args) -> tuple[dict, str]:
 
 
 def _check(args) -> tuple[dict, str]:
-    from .analysis.parse import parse_numbers
+    from .io.paste import parse_numbers
 
-    parsed = parse_numbers(_text(args.numbers, "numbers"))
+    text = _text(args.numbers, "numbers", args.input_limit)
+    parsed = parse_numbers(text, limit=max(PASTE_LIMIT, len(text)))                # bounded by --input-limit
     parsed.require_interpretations()
     return parsed.as_dict(), parsed.summary()
 
@@ -224,11 +364,70 @@ def _notebook(args) -> tuple[dict, str]:
     if args.list or not args.name:
         names = list(shipped_notebooks())
         if not args.list:
-            raise PoseInputError("notebook: name the notebook to copy; posekit ships: " + ", ".join(names))
+            raise CliInputError("notebook: name the notebook to copy; accepted: " + ", ".join(names))
         return {"notebooks": names}, "\n".join(names)
     path = copy_notebook(args.name, args.folder)
     return ({"copied": str(path)},
             f"wrote a fresh copy to {path}\nopen it with: {sys.executable} -m jupyter lab {path}")
+
+
+_CARET = re.compile(r"\s*\^\s*")
+_ESCAPED = re.compile(r"\\(?:u([0-9a-fA-F]{4})|x([0-9a-fA-F]{2}))")
+
+
+def _one_line(message: str, cap: int = 2000) -> str:
+    """A message as one line for standard error.
+
+    The echoed input line and the caret under it (which a one-line message cannot
+    align) are dropped; line, column and offset stay in the words.  (Values are already
+    short excerpts: every posekit message quotes them with ``core.errors.excerpt``.)  Control, bidirectional and
+    invisible characters (typed, or escaped as ``\\u202e`` by repr) are shown as
+    ``<U+XXXX>``, and a line longer than ``cap`` keeps its head and its tail (where
+    "accepted: ..." is).
+
+    >>> _one_line("bad at line 1, column 3 (offset 2):\\n1 x\\n  ^\\naccepted: numbers")
+    'bad at line 1, column 3 (offset 2); accepted: numbers'
+    """
+    kept: list[str] = []
+    previous_kept = False
+    for part in message.split("\n"):
+        if _CARET.fullmatch(part):
+            if previous_kept:  # the echoed input line the caret points into
+                kept.pop()
+            previous_kept = False
+            continue
+        previous_kept = bool(part.strip())
+        if previous_kept:
+            kept.append(part.strip())
+    text = "; ".join(k[:-1] if k.endswith(":") and i < len(kept) - 1 else k for i, k in enumerate(kept))
+    text = _ESCAPED.sub(lambda m: isolate_controls(chr(int(m.group(1) or m.group(2), 16)))
+                        if not chr(int(m.group(1) or m.group(2), 16)).isprintable() else m.group(0), text)
+    text = isolate_controls(text)
+    if len(text) > cap:
+        text = f"{text[:cap - 500]} ... ({len(text) - cap + 3} characters left out) ... {text[-497:]}"
+    return text
+
+
+#: Options whose values are words posekit knows (conventions, kinds): only ASCII is meaningful there.
+_WORD_OPTIONS = ("source", "target", "from_kind", "to_kind", "expected_convention", "assumed", "expected_kind",
+                 "assumed_kind", "name")
+
+
+def _look_alike_words(args, message: str) -> str:
+    """Name the non-ASCII characters of a word option (a Cyrillic 'а' looks like 'a'), unless the message does."""
+    found = []
+    for option in _WORD_OPTIONS:
+        value = getattr(args, option, None)
+        if isinstance(value, str) and not value.isascii():
+            odd = [o for o in odd_characters(value[:200]) if re.search(r"U\+[0-9A-F]{4,}", o).group(0) not in message]
+            if odd:
+                flag = {"source": "--from", "target": "--to", "name": "NAME"}.get(option,
+                                                                                 "--" + option.replace("_", "-"))
+                found.append(f"{flag} holds {'; '.join(odd[:3])}")
+    if not found:
+        return ""
+    return ("; note: " + "; ".join(isolate_controls(f) for f in found)
+            + " (characters outside printable ASCII; some look like ASCII ones)")
 
 
 def _has_module(name: str) -> bool:
@@ -246,14 +445,25 @@ def main(argv=None) -> int:
         if args.verb == "tour":
             return _tour(args.folder, args.print_command)
         handler = {"diagnose": _diagnose, "convert": _convert, "check": _check, "notebook": _notebook}[args.verb]
-        data, text, *found = handler(args)
+        with warnings.catch_warnings(record=True) as caught:  # numpy's overflow notes: said once, on one line
+            warnings.simplefilter("default")
+            data, text, *found = handler(args)
     except PoseInputError as exc:
-        print(f"posekit {args.verb}: error: {exc}", file=sys.stderr)
+        print(f"posekit {args.verb}: error: {_one_line(str(exc))}{_look_alike_words(args, str(exc))}",
+              file=sys.stderr)
+        return 2
+    except RecursionError:  # brackets nested deeper than Python's stack: refused, no traceback
+        print(f"posekit {args.verb}: error: the input is nested too deeply to read (brackets inside brackets "
+              f"beyond {sys.getrecursionlimit() // 4} levels or so); accepted: numbers in at most a few levels of "
+              "brackets, e.g. [[1, 0, 0], [0, 1, 0], [0, 0, 1]]", file=sys.stderr)
         return 2
     except OSError as exc:  # a folder that cannot be written: say which, no traceback
-        print(f"posekit {args.verb}: error: could not write the copy: {exc.strerror or exc} "
-              f"({exc.filename or 'the folder given'}); choose a folder you can write with --folder", file=sys.stderr)
+        where = excerpt(str(exc.filename), 80) if exc.filename else "the folder given"
+        print(f"posekit {args.verb}: error: could not write the copy: {_one_line(str(exc.strerror or exc))} "
+              f"({where}); accepted: a folder you can write, given with --folder", file=sys.stderr)
         return 2
+    for note in dict.fromkeys(_one_line(str(w.message)) for w in caught):
+        print(f"posekit {args.verb}: warning: {note}", file=sys.stderr)
     try:
         print(json.dumps(data, indent=2) if getattr(args, "json", False) else text)
         sys.stdout.flush()

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -86,7 +87,8 @@ def test_convert_transform_from_stdin():
     assert proc.returncode == 0, proc.stderr
     nums = [float(v) for v in proc.stdout.strip().splitlines()[-1].split()]
     q = ROT.as_quat(scalar_first=True)                                          # scipy: scalar first
-    assert np.allclose(nums[:3], [1, 2, 3]) and np.allclose(np.abs(nums[3:]), np.abs(q), atol=1e-9)
+    sign = np.sign(np.dot(nums[3:], q))                  # q and -q are one rotation; every component keeps its sign
+    assert np.allclose(nums[:3], [1, 2, 3]) and sign != 0 and np.allclose(nums[3:], sign * q, atol=1e-9)
 
 
 def test_check_lists_every_reading():
@@ -100,7 +102,7 @@ def test_check_lists_every_reading():
 
 
 @pytest.mark.parametrize("args, words", [
-    (("check", "1 2 abc"), ["offset 4", "^"]),
+    (("check", "1 2 abc"), ["'abc'", "line 1, column 5 (offset 4)"]),
     (("check", "1 2 3 4 5"), ["5 numbers"]),
     (("convert", "1 0 0 0", "--to-kind", "euler", "--from", "scalar=LAST"), ["upper-case"]),
     (("convert", "1 0 0 0", "--to-kind", "sideways"), ["not a kind"]),
@@ -109,7 +111,7 @@ def test_check_lists_every_reading():
     (("diagnose", "--expected", "1 0 0 0", "--observed", "[1, 2"), ["never closed"]),
     (("diagnose", "--observed", "1 0 0 0"), ["--expected is missing"]),
     (("diagnose", "--expected-file", "/nonexistent/x.txt", "--observed-file", "/nonexistent/y.txt"),
-     ["cannot read file"]),
+     ["expected poses file '/nonexistent/x.txt' cannot be read", "accepted"]),
 ])
 def test_bad_input_exits_nonzero_with_a_message_and_no_traceback(args, words):
     proc = run(*args)
@@ -119,6 +121,8 @@ def test_bad_input_exits_nonzero_with_a_message_and_no_traceback(args, words):
     for w in words:
         assert w in proc.stderr, proc.stderr
     assert proc.stderr.startswith("posekit ")
+    assert proc.stderr.count("\n") == 1 and proc.stderr.endswith("\n"), proc.stderr     # one line
+    assert re.search(r"accepted|expected|use lower case", proc.stderr, re.I), proc.stderr  # says what would do
 
 
 def test_unknown_verb_is_a_usage_error():
@@ -196,3 +200,72 @@ def test_reader_closing_the_pipe_early_gives_no_traceback():
            "| head -c 10 > /dev/null")
     out = subprocess.run(["bash", "-o", "pipefail", "-c", cmd], capture_output=True, text=True, timeout=60)
     assert "Traceback" not in out.stderr and out.stderr == ""
+
+
+# --- flags are honoured: each answer changes with the flag, and agrees with the Python API and scipy -----------
+
+def _signed_close(got, want, atol=1e-8):
+    """Equal component by component, signs included, up to one overall sign (q and -q are one rotation)."""
+    got, want = np.asarray(got, float), np.asarray(want, float)
+    return bool(np.allclose(got, want, atol=atol) or np.allclose(got, -want, atol=atol))
+
+
+def test_assumed_changes_the_single_pose_answer():
+    from posekit.analysis.diagnose import diagnose
+
+    observed = _text(ROT.as_quat())                                              # scipy: as_quat is scalar last
+    base = ("diagnose", "--expected", "40 -15 8", "--expected-convention", "unit=degrees", "--observed", observed,
+            "--json")
+    plain = run(*base)
+    assumed = run(*base, "--assumed", "scalar=last")
+    assert plain.returncode == 0 and assumed.returncode == 0, plain.stderr + assumed.stderr
+    p, a = json.loads(plain.stdout), json.loads(assumed.stdout)
+    assert p["explanations"][0]["sentence"] == "The quaternion was written scalar-last but read scalar-first."
+    assert a["explanations"][0]["sentence"] != p["explanations"][0]["sentence"]
+    assert "scalar=last" in a["assumed"] and "scalar=first" in p["assumed"]
+    # the corrected numbers are in the stated reading: scalar first without the flag, scalar last with it
+    assert _signed_close(p["explanations"][0]["corrected_numbers"], ROT.as_quat(scalar_first=True))   # scipy
+    assert _signed_close(a["explanations"][0]["corrected_numbers"], ROT.as_quat())                    # scipy
+    assert not _signed_close(a["explanations"][0]["corrected_numbers"], ROT.as_quat(scalar_first=True))
+    # the same answers as the Python API given the same settings
+    for data, kw in ((p, {}), (a, {"assumed": "scalar=last"})):
+        api = diagnose("40 -15 8", observed, expected_convention="unit=degrees", **kw).as_dict()
+        assert data["explanations"][0]["sentence"] == api["explanations"][0]["sentence"]
+        assert data["assumed"] == api["assumed"]
+        assert np.allclose(data["explanations"][0]["corrected_numbers"], api["explanations"][0]["corrected_numbers"],
+                           atol=1e-12)
+
+
+def test_expected_convention_changes_the_batch_answer(tmp_path):
+    import posekit as pk
+    from posekit.analysis.diagnose import diagnose_batch, expected_pose
+
+    rots = Rotation.random(12, random_state=7)                                  # scipy: Rotation.random
+    angles = rots.as_euler("xyz", degrees=True)                                  # scipy: lower case = extrinsic
+    conv = "sequence=x-y-z axes=extrinsic unit=degrees"
+    # scipy as the outside reference: the flag names the rotations scipy made, the default reading does not
+    assert np.allclose(pk.read_rotation(angles, "euler", conv), rots.as_matrix(), atol=1e-12)
+    default = Rotation.from_euler("ZYX", angles, degrees=True)                    # posekit's default: z-y-x intrinsic
+    assert np.degrees((default.inv() * rots).magnitude()).max() > 1.0
+    exp, obs = tmp_path / "expected.txt", tmp_path / "observed.txt"
+    exp.write_text("\n".join(_text(a) for a in angles))
+    obs.write_text("\n".join(_text(q) for q in rots.as_quat(scalar_first=True)))  # scipy: scalar first
+    base = ("diagnose", "--expected-file", str(exp), "--observed-file", str(obs), "--json")
+    with_flag = run(*base, "--expected-convention", conv)
+    without = run(*base)
+    assert with_flag.returncode == 0, with_flag.stderr
+    w = json.loads(with_flag.stdout)
+    assert w["explanations"][0]["sentence"] == "The numbers match the expected pose as read: no convention error found."
+    assert max(w["rotation_residuals_degrees"]) < 1e-5 and "x-y-z extrinsic" in w["expected_reading"]
+    assert without.returncode in (0, 1), without.stderr
+    wo = json.loads(without.stdout)
+    assert wo["explanations"][0]["sentence"] != w["explanations"][0]["sentence"]
+    assert "x-y-z extrinsic" not in wo["expected_reading"]
+    # the same answers as the Python API
+    obs_numbers = rots.as_quat(scalar_first=True)
+    for data, ec in ((w, conv), (wo, None)):
+        api = diagnose_batch(expected_pose(np.array([[float(f"{v:.9f}") for v in a] for a in angles]), None, ec),
+                             np.array([[float(f"{v:.9f}") for v in q] for q in obs_numbers]),
+                             expected_convention=ec).as_dict()
+        assert data["explanations"][0]["sentence"] == api["explanations"][0]["sentence"]
+        assert np.allclose(data["rotation_residuals_degrees"], api["rotation_residuals_degrees"], atol=1e-9)

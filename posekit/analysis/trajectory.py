@@ -32,8 +32,7 @@ as ``q / |q|`` for rates and angles, and the report says so.
 
 from __future__ import annotations
 
-import io
-import os
+import io  # noqa: F401 - used by the doctests
 import re
 from dataclasses import dataclass, field
 from types import MappingProxyType
@@ -43,14 +42,18 @@ import numpy as np
 from ..core.checks import orthonormality_error
 from ..core.rotation import wrap_signed
 from ..core.convention import CHOICES, Convention
-from ..core.errors import PoseInputError, WrongShapeError, WrongTypeError
+from ..core.errors import WrongShapeError, WrongTypeError, excerpt, odd_characters, summarise
 from ..core.reading import as_convention, read_rotation, write_rotation
 from ..explain import Reading, Slip, read_numbers, sentence, stated_fields
+from ..io.limits import LOG_LIMIT
+from ..io.logs import (DuplicateColumnError, EmptyTrajectoryError, MissingColumnError, RejectedRow,
+                       TrajectoryInputError, names_words, read_log)
 
 __all__ = [
     "TrajectoryInputError",
     "MissingColumnError",
     "EmptyTrajectoryError",
+    "DuplicateColumnError",
     "TRAJECTORY_KINDS",
     "FINDINGS",
     "RejectedRow",
@@ -64,18 +67,6 @@ __all__ = [
     "read_trajectory_csv",
     "check_trajectory_csv",
 ]
-
-
-class TrajectoryInputError(PoseInputError):
-    """A trajectory (arrays or CSV file) cannot be read as given."""
-
-
-class MissingColumnError(TrajectoryInputError):
-    """A CSV column that was asked for, or that is needed, is not there."""
-
-
-class EmptyTrajectoryError(TrajectoryInputError):
-    """There are no data rows at all (empty file, header only, zero-length arrays)."""
 
 
 TRAJECTORY_KINDS = ("quaternion", "euler", "matrix")
@@ -93,19 +84,6 @@ FINDINGS = {
 }
 
 _CHUNK = 1 << 14
-
-
-@dataclass(frozen=True)
-class RejectedRow:
-    """One row left out: ``row`` is the 0-based data row, ``line`` the 1-based file line (CSV only)."""
-
-    row: int
-    reason: str
-    line: int | None = None
-
-    def words(self) -> str:
-        where = f"row {self.row}" + (f" (line {self.line})" if self.line is not None else "")
-        return f"{where}: {self.reason}"
 
 
 @dataclass(frozen=True)
@@ -427,13 +405,14 @@ def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, g
     lines = None if _lines is None else np.asarray(_lines)
     rejected: list[RejectedRow] = []
 
-    def reject(rows, reason):
+    def reject(rows, reason, cause=None):
         for r in rows:
             r = int(r)
             if r not in known:
                 known.add(r)
                 rejected.append(RejectedRow(r, reason(r) if callable(reason) else reason,
-                                            None if lines is None else int(lines[r])))
+                                            None if lines is None else int(lines[r]),
+                                            cause or (reason if isinstance(reason, str) else "")))
 
     # --- which rows name a rotation at all --------------------------------------------------------
     flat = vals.reshape(n, -1)
@@ -460,7 +439,7 @@ def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, g
         bad = used & ~(ortho <= matrix_tolerance)
         non_ortho_rows = np.flatnonzero(bad)
         reject(non_ortho_rows, lambda r: f"not orthonormal: |M^T M - I| = {ortho[r]:.3g} "
-                                         f"(tolerance {matrix_tolerance:g})")
+                                         f"(tolerance {matrix_tolerance:g})", "not orthonormal")
         used &= ~bad
         cand = np.flatnonzero(used)
         dets = np.empty(cand.size)
@@ -473,8 +452,9 @@ def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, g
     pos = None if all_used else np.flatnonzero(used)
     m = n if all_used else pos.size
     if m == 0:
-        raise EmptyTrajectoryError(f"trajectory: all {n} rows were rejected (first: {rejected[0].words() if rejected else 'see input'}); "
-                                   "no rotation left to check")
+        raise EmptyTrajectoryError(f"trajectory: all {n} rows were rejected, so no rotation is left to check: "
+                                   f"{_rejection_words(tuple(_known) + tuple(rejected))}; accepted: rows with a "
+                                   "finite timestamp and pose values that name a rotation")
 
     # --- timestamps -------------------------------------------------------------------------------
     tu = t if all_used else t[pos]
@@ -508,7 +488,7 @@ def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, g
         hi = min(lo + _CHUNK, m)
         rows = np.arange(lo, hi) if all_used else pos[lo:hi]
         v = _rows_of(vals, kind, conv, lo, hi, pos)
-        r = read_rotation(v, kind, conv, normalise=True, tolerance=np.inf) if kind != "matrix" else \
+        r = read_rotation(v, kind, conv, normalise=True) if kind != "matrix" else \
             read_rotation(v, kind, conv, tolerance=matrix_tolerance)
         readback = write_rotation(r, "euler", conv, check=False)
         eul = v if kind == "euler" else readback
@@ -611,6 +591,21 @@ def _scan(times, values, kind, convention, *, rate_limit=None, gap_limit=None, g
                             all_rejected, MappingProxyType(settings), _mapping, prior, tuple(notes))
 
 
+def _rejection_words(rows, shown: int = 3) -> str:
+    """Rejected rows counted per cause, most common first, each with its first few lines (or rows)."""
+    groups: dict[str, list[RejectedRow]] = {}
+    for r in sorted(rows, key=lambda x: x.row):
+        groups.setdefault(r.cause or r.reason, []).append(r)
+    parts = []
+    for cause, rs in sorted(groups.items(), key=lambda kv: (-len(kv[1]), kv[1][0].row)):
+        label = "line" if rs[0].line is not None else "row"
+        where = ", ".join(str(r.line if r.line is not None else r.row) for r in rs[:shown])
+        parts.append(f"{len(rs)} row{'s' if len(rs) > 1 else ''}: {cause} ({label}{'s' if len(rs) > 1 else ''} "
+                     f"{where}{', ...' if len(rs) > shown else ''})")
+    first = min(rows, key=lambda x: x.row)
+    return "; ".join(parts) + f"; first: {first.words()}"
+
+
 def _shares_of(rots):
     ws, bs, total = _axis_shares(*_turns(rots))
     tw, tb = float(np.sum(ws)), float(np.sum(bs))
@@ -695,72 +690,84 @@ def _norm_name(name: str) -> str:
     return re.sub(r"[\s.\-/:\[\]()]+", "_", name.strip().strip("\"'").lower()).strip("_")
 
 
-def _is_number(text: str) -> bool:
-    try:
-        float(text)
-        return True
-    except ValueError:
-        return False
+def _clash(role: str, idx, names, header_line) -> DuplicateColumnError:
+    cols = ", ".join(f"{excerpt(names[i], 30)} (column {i})" for i in idx)
+    return DuplicateColumnError(
+        f"CSV header (line {header_line}): {role} is claimed by {len(idx)} columns: {cols}, so which one to read "
+        "is unclear; accepted: one column per role: rename the extra columns, or pass time_column= and "
+        "value_columns= as 0-based column numbers")
 
 
-def _split(line: str, delim):
-    return [f.strip() for f in (line.split(delim) if delim is not None else line.split())]
+def _infer(names, kind, conv, header_line):
+    """(time index, value indices, kind, words, notes, matrix-by-name flag) from header names.
 
-
-def _infer(names, kind, conv):
-    """(time index, value indices, kind, words, notes, matrix-by-name flag) from header names."""
+    Two columns that claim one role (the same name twice, or ``qw`` and ``q_w``) raise
+    :class:`DuplicateColumnError` when that role is read.
+    """
     norm = [_norm_name(x) for x in names]
-    time_idx = next((i for i, x in enumerate(norm) if x in _TIME_NAMES), None)
-    if time_idx is None:
-        time_idx = next((i for i, x in enumerate(norm) if x.startswith("time") or "stamp" in x), None)
-    if time_idx is None:
-        raise MissingColumnError(f"CSV header: no timestamp column found among {names}; expected a name such as "
-                                 "'time', 'timestamp', 't' or 'stamp', or pass time_column=")
+    time_cands = [i for i, x in enumerate(norm) if x in _TIME_NAMES]
+    if not time_cands:
+        time_cands = [i for i, x in enumerate(norm) if x.startswith("time") or "stamp" in x]
+    if not time_cands:
+        raise MissingColumnError(f"CSV header (line {header_line}): no timestamp column found among "
+                                 f"{names_words(names)}; accepted: a name such as 'time', 'timestamp', 't' or "
+                                 "'stamp', or pass time_column=")
+    time_idx = time_cands[0]
+    same_time = [i for i, x in enumerate(norm) if x == norm[time_idx]]
+    if len(same_time) > 1:
+        raise _clash(f"the timestamp {excerpt(names[time_idx], 30)}", same_time, names, header_line)
     notes = []
     found = {}
+    clashes = {}
     # quaternion: groups prefix + w/x/y/z
-    groups: dict[str, dict[str, int]] = {}
+    groups: dict[str, dict[str, list[int]]] = {}
     for i, x in enumerate(norm):
         mt = re.fullmatch(r"(.*?)_?([wxyz])", x)
         if mt:
-            groups.setdefault(mt.group(1), {})[mt.group(2)] = i
+            groups.setdefault(mt.group(1), {}).setdefault(mt.group(2), []).append(i)
     quat_groups = [(p, g) for p, g in groups.items() if set(g) == set("wxyz")
                    and (p == "" or any(w in p.split("_") or p.endswith(w) for w in _QUAT_WORDS))]
     quat_groups.sort(key=lambda pg: pg[0] == "")  # prefer a named prefix over bare w, x, y, z
     if quat_groups:
         p, g = quat_groups[0]
         order = "wxyz" if conv.scalar == "first" else "xyzw"
-        found["quaternion"] = ([g[c] for c in order], f"quaternion columns {', '.join(names[g[c]] for c in order)} "
-                               f"read as ({', '.join(order)}) per scalar={conv.scalar}")
+        found["quaternion"] = ([g[c][0] for c in order], f"quaternion columns "
+                               f"{', '.join(names[g[c][0]] for c in order)} read as ({', '.join(order)}) per "
+                               f"scalar={conv.scalar}")
+        clashes["quaternion"] = [(f"quaternion component {c}", g[c]) for c in order if len(g[c]) > 1]
     # matrix by entry names
-    entries = {}
+    entries: dict[tuple[int, int], list[int]] = {}
     for i, x in enumerate(norm):
         mt = re.fullmatch(r"(?:r|m|rot|mat|matrix|r_)?_?([0-3])_?([0-3])", x)
         if mt:
-            entries[(int(mt.group(1)), int(mt.group(2)))] = i
+            entries.setdefault((int(mt.group(1)), int(mt.group(2))), []).append(i)
     for base in (0, 1):
         want = [(r + base, c + base) for r in range(3) for c in range(3)]
         if all(k in entries for k in want) and "matrix" not in found:
-            idx = [entries[k] for k in want]
+            idx = [entries[k][0] for k in want]
             found["matrix"] = (idx, f"matrix columns {', '.join(names[i] for i in idx)} read by their row/column "
                                f"names ({'1' if base else '0'}-based), so the layout setting does not apply")
+            clashes["matrix"] = [(f"matrix entry row {k[0]} column {k[1]}", entries[k]) for k in want
+                                 if len(entries[k]) > 1]
     # euler by roll / pitch / yaw
-    rpy = {}
+    rpy: dict[str, list[int]] = {}
     for i, x in enumerate(norm):
         mt = re.search(r"(?:^|_)(roll|pitch|yaw)(?:_|$)", x)
-        if mt and mt.group(1) not in rpy:
-            rpy[mt.group(1)] = i
+        if mt:
+            rpy.setdefault(mt.group(1), []).append(i)
     if len(rpy) == 3:
         if conv.is_proper_euler:
             if kind == "euler" or not (set(found) - {"euler"}):
                 raise MissingColumnError(
                     f"CSV header: roll/pitch/yaw columns cannot be placed in the proper Euler sequence "
-                    f"{conv.sequence} (it turns about one axis twice); pass value_columns= in the sequence's order")
+                    f"{conv.sequence} (it turns about one axis twice); accepted: value_columns= in the sequence's "
+                    "order")
         else:
             about = {"x": "roll", "y": "pitch", "z": "yaw"}  # aircraft roll/pitch/yaw axes, common practice
-            idx = [rpy[about[a]] for a in conv.axes_letters]
+            idx = [rpy[about[a]][0] for a in conv.axes_letters]
             found["euler"] = (idx, f"Euler columns {', '.join(names[i] for i in idx)} placed in the order of "
                               f"sequence {conv.sequence} (roll about x, pitch about y, yaw about z)")
+            clashes["euler"] = [(f"the {w} angle", rpy[w]) for w in ("roll", "pitch", "yaw") if len(rpy[w]) > 1]
             says_degrees = any("deg" in norm[i] for i in idx)
             says_radians = any("rad" in norm[i] and "deg" not in norm[i] for i in idx)
             if says_degrees and not conv.degrees:
@@ -769,108 +776,120 @@ def _infer(names, kind, conv):
                 notes.append("note: the Euler column names mention radians but the convention says degrees")
     if kind is not None:
         if kind not in found:
-            raise MissingColumnError(f"CSV header: no {kind} columns recognised among {names}; pass value_columns=")
+            raise MissingColumnError(f"CSV header (line {header_line}): no {kind} columns recognised among "
+                                     f"{names_words(names)}{_duplicate_words(names)}; accepted: header names posekit "
+                                     "knows (qw..qz, r11..r33, roll/pitch/yaw), or pass value_columns=")
         chosen = kind
     else:
         chosen = next((k for k in ("quaternion", "matrix", "euler") if k in found), None)
         if chosen is None:
             raise MissingColumnError(
-                f"CSV header: no pose columns recognised among {names}; expected quaternion columns such as "
-                "qw, qx, qy, qz, matrix entries r00..r22, or roll, pitch, yaw; or pass value_columns=")
+                f"CSV header (line {header_line}): no pose columns recognised among {names_words(names)}"
+                f"{_duplicate_words(names)}{_odd_name_words(names)}; accepted: quaternion columns such as qw, qx, "
+                "qy, qz, matrix entries r00..r22, or roll, pitch, yaw; or pass value_columns=")
         if len(found) > 1:
             notes.append(f"note: columns for {', '.join(sorted(found))} were all found; used {chosen} "
                          "(pass kind= to choose)")
+    for role, idx in clashes.get(chosen, ()):
+        raise _clash(role, idx, names, header_line)
     idx, words = found[chosen]
     return time_idx, idx, chosen, words, notes, chosen == "matrix"
 
 
-def _resolve(col, names, header: bool, what: str) -> int:
+def _odd_name_words(names) -> str:
+    """Header names holding characters outside ASCII (a Cyrillic 'х' looks like 'x'), each character named."""
+    odd = [(n, odd_characters(n[:60])) for n in names if not n.isascii()][:3]
+    if not odd:
+        return ""
+    return " (outside ASCII: " + "; ".join(f"{excerpt(n, 30)} holds {', '.join(o[:2])}" for n, o in odd) + ")"
+
+
+def _duplicate_words(names) -> str:
+    where: dict[str, list[int]] = {}
+    for i, n in enumerate(names):
+        where.setdefault(n, []).append(i)
+    dup = [(n, ix) for n, ix in where.items() if len(ix) > 1]
+    if not dup:
+        return ""
+    return " (" + "; ".join(f"{excerpt(n, 30)} is the name of columns {', '.join(map(str, ix))}"
+                            for n, ix in dup[:3]) + ")"
+
+
+def _resolve(col, names, header: bool, what: str, header_line=None) -> int:
     if isinstance(col, (int, np.integer)) and not isinstance(col, bool):
         if not 0 <= col < len(names):
             raise MissingColumnError(f"{what}: column number {col} does not exist; the file has {len(names)} "
-                                     f"columns (0 to {len(names) - 1})")
+                                     f"columns: accepted: 0 to {len(names) - 1}")
         return int(col)
     if isinstance(col, str):
         if not header:
-            raise MissingColumnError(f"{what}: column name {col!r} given but the file has no header line; "
-                                     "give column numbers (0-based) instead")
-        if col in names:
-            return names.index(col)
-        normed = [_norm_name(x) for x in names]
-        if _norm_name(col) in normed:
-            return normed.index(_norm_name(col))
-        raise MissingColumnError(f"{what}: column {col!r} is not in the header; columns are {names}")
-    raise TrajectoryInputError(f"{what}: got {col!r}; expected a column name or a 0-based column number")
+            raise MissingColumnError(f"{what}: column name {excerpt(col, 40)} given but the file has no header "
+                                     "line; accepted: 0-based column numbers")
+        exact = [i for i, x in enumerate(names) if x == col]
+        if len(exact) > 1:
+            raise _clash(f"{what} {excerpt(col, 30)}", exact, names, header_line)
+        if exact:
+            return exact[0]
+        normed = [i for i, x in enumerate(names) if _norm_name(x) == _norm_name(col)]
+        if len(normed) > 1:
+            raise _clash(f"{what} {excerpt(col, 30)}", normed, names, header_line)
+        if normed:
+            return normed[0]
+        raise MissingColumnError(f"{what}: column {excerpt(col, 40)} is not in the header (line {header_line}); "
+                                 f"accepted: one of {names_words(names)}, or a 0-based column number")
+    raise TrajectoryInputError(f"{what}: got {summarise(col, 40)}; expected a column name or a 0-based column number")
 
 
 def read_trajectory_csv(source, *, kind: str | None = None, convention=None, time_column=None, value_columns=None,
-                        delimiter: str | None = None, comment: str = "#") -> TrajectoryTable:
-    """Read a CSV file of timestamps and poses with numpy -> :class:`TrajectoryTable`.
+                        delimiter: str | None = None, comment: str | None = "#",
+                        limit: int = LOG_LIMIT) -> TrajectoryTable:
+    """Read a CSV file of timestamps and poses -> :class:`TrajectoryTable`.
 
-    ``source``: a path or an open text file.  The delimiter (comma, semicolon, tab or
-    white space) is detected from the first line unless given; lines starting with
-    ``comment`` and blank lines are skipped.  Columns: ``time_column`` and
+    ``source``: a path, ``"-"`` (standard input) or an open file; at most ``limit``
+    bytes are read (default :data:`~posekit.io.limits.LOG_LIMIT`, 1 GiB; past it a
+    :class:`~posekit.io.logs.LogTooLargeError` names the limit: pass a larger
+    ``limit=``).  Lines and fields are read by :func:`posekit.io.logs.read_log`: the
+    delimiter (comma, semicolon, tab or white space) is detected from the first line
+    unless given; lines starting with ``comment`` and blank lines are skipped; quoted
+    fields are read as Python's csv module reads them.  Columns: ``time_column`` and
     ``value_columns`` (names or 0-based numbers; 4 -> quaternion in the convention's
     scalar order, 3 -> Euler angles in the sequence's order, 9 -> a matrix per
     ``layout``), or inferred from the header and described in ``mapping.words``.
-    Rows with missing fields, text in a numeric column or NaN are kept as NaN and
-    listed in ``rejected`` with their reason; a missing column, an empty file or a
-    file with no data rows raises a :class:`TrajectoryInputError` subclass.
+    Rows with more or fewer fields than the header, an empty field, text in a numeric
+    column or NaN are kept as NaN and listed in ``rejected`` with their reason and
+    line; a missing or doubly named column, an empty file or a file with no data rows
+    raises a :class:`TrajectoryInputError` subclass.
 
     >>> text = io.StringIO("time,qw,qx,qy,qz\\n0,1,0,0,0\\n1,oops,0,0,0\\n")
     >>> table = read_trajectory_csv(text)
     >>> table.mapping.words.split(";")[1]
     ' quaternion columns qw, qx, qy, qz read as (w, x, y, z) per scalar=first'
-    >>> table.rejected[0].words()
+    >>> table.rejected[0].words().split(";")[0]
     "row 1 (line 3): text 'oops' in numeric column qw"
     """
     conv = as_convention(convention)
-    name = getattr(source, "name", None) or (os.fspath(source) if isinstance(source, (str, os.PathLike)) else
-                                             "<text>")
-    try:
-        if hasattr(source, "read"):
-            text = source.read()
-        else:
-            with open(source, "r", encoding="utf-8-sig", newline="") as fh:
-                text = fh.read()
-    except (OSError, UnicodeDecodeError) as exc:
-        raise TrajectoryInputError(f"CSV file {name!r}: could not be read ({exc}); expected a readable UTF-8 "
-                                   "text file") from None
-    except TypeError:
-        raise WrongTypeError(f"CSV source: got {type(source).__name__}; expected a path or an open text file") from None
-    if isinstance(text, bytes):
-        raise WrongTypeError(f"CSV source {name!r}: opened in binary mode; open it in text mode")
-    raw_lines = text.splitlines()
-    content = [(i + 1, ln) for i, ln in enumerate(raw_lines) if ln.strip() and not ln.lstrip().startswith(comment)]
-    if not content:
-        raise EmptyTrajectoryError(f"CSV file {name!r} is empty (no lines besides blanks and comments); expected a "
-                                   "header line and one row per timestamp")
-    first = content[0][1]
-    if delimiter is None:
-        delimiter = next((d for d in (",", ";", "\t") if d in first), None)
-    fields0 = _split(first, delimiter)
-    header = not all(_is_number(f) for f in fields0)
-    names = [f.strip().strip("\"'") for f in fields0] if header else [f"column {i}" for i in range(len(fields0))]
-    data = content[1:] if header else content
-    if not data:
-        raise EmptyTrajectoryError(f"CSV file {name!r} has a header line but no data rows")
+    log = read_log(source, limit=limit, delimiter=delimiter, comment=comment)
+    name, header, hl = log.source, log.header, log.header_line
+    names = list(log.names)
     notes: list[str] = []
     by_name_matrix = False
     if value_columns is None:
         if not header:
-            raise MissingColumnError(f"CSV file {name!r} has no header line, so the columns cannot be inferred; "
-                                     "pass time_column= and value_columns= as 0-based column numbers")
-        ti, vi, kind_found, words, notes, by_name_matrix = _infer(names, kind, conv)
+            raise MissingColumnError(f"CSV file {name} has no header line, so the columns cannot be inferred; "
+                                     "accepted: time_column= and value_columns= as 0-based column numbers")
+        ti, vi, kind_found, words, notes, by_name_matrix = _infer(names, kind, conv, hl)
         if time_column is not None:
-            ti = _resolve(time_column, names, header, "time_column")
+            ti = _resolve(time_column, names, header, "time_column", hl)
         inferred = True
     else:
         if time_column is None:
-            raise MissingColumnError("value_columns given without time_column; pass both")
-        ti = _resolve(time_column, names, header, "time_column")
+            raise MissingColumnError("value_columns given without time_column; accepted: both, or neither to infer "
+                                     "them from the header")
+        ti = _resolve(time_column, names, header, "time_column", hl)
         if isinstance(value_columns, (str, bytes)) or not hasattr(value_columns, "__len__"):
-            raise TrajectoryInputError(f"value_columns: got {value_columns!r}; expected a list of names or numbers")
-        vi = [_resolve(c, names, header, "value_columns") for c in value_columns]
+            raise TrajectoryInputError(f"value_columns: got {summarise(value_columns, 40)}; expected a list of "
+                                       "names or numbers")
+        vi = [_resolve(c, names, header, "value_columns", hl) for c in value_columns]
         by_count = {4: "quaternion", 3: "euler", 9: "matrix"}
         kind_found = kind or by_count.get(len(vi))
         if kind_found is None or by_count.get(len(vi)) != kind_found:
@@ -878,25 +897,29 @@ def read_trajectory_csv(source, *, kind: str | None = None, convention=None, tim
                                   "(quaternion), 3 (Euler angles) or 9 (matrix)")
         words = f"{kind_found} columns {', '.join(names[i] for i in vi)} as given"
         inferred = False
+    cols = [ti] + list(vi)
+    twice = sorted({c for c in cols if cols.count(c) > 1})
+    if twice:
+        raise TrajectoryInputError(f"columns: {', '.join(f'{excerpt(names[c], 30)} (column {c})' for c in twice)} "
+                                   "would be read twice (as the time and a pose value, or as two pose values); "
+                                   "accepted: a different column for the time and for each value")
+    unused = {n: ix for n, ix in log.duplicates().items() if not set(ix) & set(cols)}
+    notes = list(notes) + [f"note: the header (line {hl}) names columns {', '.join(map(str, ix))} all "
+                           f"{excerpt(n, 30)}; none of them is read" for n, ix in list(unused.items())[:3]]
     words = f"time column {names[ti]}; {words}" + ("; inferred from the header (pass time_column= and "
                                                     "value_columns= to override)" if inferred else "")
     mapping = ColumnMapping(names[ti], tuple(names[i] for i in vi), kind_found, inferred, words, tuple(notes))
-    cols = [ti] + list(vi)
-    need = max(cols) + 1
-    line_no = np.array([ln for ln, _ in data], dtype=np.int64)
-    body = [ln for _, ln in data]
-    try:
-        arr = np.loadtxt(body, delimiter=delimiter, usecols=cols, ndmin=2, dtype=np.float64, comments=None)
-        rejected: list[RejectedRow] = []
-    except ValueError:
-        arr, rejected = _slow_parse(body, line_no, delimiter, cols, need, names)
+    arr, rejected = log.numbers(cols)
+    line_no = log.lines
     bad = ~np.isfinite(arr).all(axis=1)
-    seen = {r.row for r in rejected}
-    for r in np.flatnonzero(bad):
-        if int(r) not in seen:
-            which = [names[c] for c, ok in zip(cols, np.isfinite(arr[r])) if not ok]
-            rejected.append(RejectedRow(int(r), f"NaN or infinity in column {', '.join(which)}", int(line_no[r])))
-    rejected.sort(key=lambda x: x.row)
+    if bad.any():
+        seen = {r.row for r in rejected}
+        for r in np.flatnonzero(bad):
+            if int(r) not in seen:
+                which = [names[c] for c, ok in zip(cols, np.isfinite(arr[r])) if not ok]
+                rejected.append(RejectedRow(int(r), f"NaN or infinity in column {', '.join(which)}; accepted: finite "
+                                            "numbers", int(line_no[r]), "NaN or infinity"))
+        rejected.sort(key=lambda x: x.row)
     times = np.ascontiguousarray(arr[:, 0])
     values = np.ascontiguousarray(arr[:, 1:])
     if by_name_matrix:
@@ -904,46 +927,26 @@ def read_trajectory_csv(source, *, kind: str | None = None, convention=None, tim
     return TrajectoryTable(str(name), times, values, kind_found, mapping, line_no, tuple(rejected))
 
 
-def _slow_parse(body, line_no, delimiter, cols, need, names):
-    """Field-by-field reading that lists every unreadable row instead of stopping."""
-    arr = np.full((len(body), len(cols)), np.nan)
-    rejected = []
-    for r, line in enumerate(body):
-        f = _split(line, delimiter)
-        if len(f) < need:
-            rejected.append(RejectedRow(r, f"has {len(f)} fields, expected at least {need}", int(line_no[r])))
-            continue
-        for j, c in enumerate(cols):
-            s = f[c]
-            if s == "":
-                rejected.append(RejectedRow(r, f"column {names[c]} is empty", int(line_no[r])))
-                break
-            try:
-                arr[r, j] = float(s)
-            except ValueError:
-                rejected.append(RejectedRow(r, f"text {s!r} in numeric column {names[c]}", int(line_no[r])))
-                arr[r, :] = np.nan
-                break
-    return arr, rejected
-
-
 def check_trajectory_csv(source, *, kind: str | None = None, convention=None, time_column=None, value_columns=None,
-                         delimiter: str | None = None, **checks) -> TrajectoryReport:
+                         delimiter: str | None = None, comment: str | None = "#", limit: int = LOG_LIMIT,
+                         **checks) -> TrajectoryReport:
     """Read a CSV (:func:`read_trajectory_csv`) and scan it (:func:`check_trajectory`) -> :class:`TrajectoryReport`.
 
     The report carries the column mapping and lists the unreadable rows with their
-    file line numbers.  ``checks`` are the keyword options of :func:`check_trajectory`.
+    file line numbers.  ``limit``: the most bytes read (default 1 GiB).  ``checks`` are
+    the keyword options of :func:`check_trajectory`.
 
     >>> text = io.StringIO("t,qx,qy,qz,qw\\n0,0,0,0,1\\n1,0,0,0,-1\\n2,0,0,0,-1\\n")
     >>> check_trajectory_csv(text).counts()["quaternion_sign_flips"]
     1
     """
-    conv = as_convention(convention)
-    table = read_trajectory_csv(source, kind=kind, convention=conv, time_column=time_column,
-                                value_columns=value_columns, delimiter=delimiter)
     unknown = set(checks) - _CHECK_OPTIONS
     if unknown:
-        raise TrajectoryInputError(f"unknown option(s) {sorted(unknown)}; accepted: {', '.join(sorted(_CHECK_OPTIONS))}")
+        raise TrajectoryInputError(f"unknown option(s) {sorted(unknown)}; accepted: "
+                                   f"{', '.join(sorted(_CHECK_OPTIONS))}")
+    conv = as_convention(convention)
+    table = read_trajectory_csv(source, kind=kind, convention=conv, time_column=time_column,
+                                value_columns=value_columns, delimiter=delimiter, comment=comment, limit=limit)
     return _scan(table.times, table.values, table.kind, conv, _known=table.rejected, _mapping=table.mapping,
                  _lines=table.lines, **checks)
 
