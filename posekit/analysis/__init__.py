@@ -5,10 +5,10 @@ from .singularity import (DEFAULT_POLE_TOLERANCE, FRAMES, EulerSolutions, LockGa
                           analyse_pole, euler_rate_jacobian, euler_solutions, lock_gauge, pole_distance,
                           pole_readout,
                           readback_sensitivity)
-from .state import (State, StateFileError, load_state, read_report_state, save_state, state_from_json,
-                    state_to_json)
+from ..io.state import (State, StateFileError, load_state, read_report_state, save_state, state_from_json,
+                        state_to_json)
 from .sweeps import DEFAULT_JUMP_THRESHOLD, Sweep, sign_continuous, sweep_between, sweep_one_angle, sweep_rotations
-from .trajectory import (FINDINGS, TRAJECTORY_KINDS, ColumnMapping, EmptyTrajectoryError, Finding,
+from .trajectory import (FINDINGS, TRAJECTORY_KINDS, ColumnMapping, DuplicateColumnError, EmptyTrajectoryError, Finding,
                          MissingColumnError, MotionPrior, RejectedRow, Span, TrajectoryInputError, TrajectoryReport,
                          TrajectoryTable, check_trajectory, check_trajectory_csv, read_trajectory_csv)
 
@@ -19,7 +19,7 @@ __all__ = [
     "readback_sensitivity",
     "State", "StateFileError", "load_state", "read_report_state", "save_state", "state_from_json", "state_to_json",
     "DEFAULT_JUMP_THRESHOLD", "Sweep", "sign_continuous", "sweep_between", "sweep_one_angle", "sweep_rotations",
-    "FINDINGS", "TRAJECTORY_KINDS", "ColumnMapping", "EmptyTrajectoryError", "Finding", "MissingColumnError",
+    "FINDINGS", "TRAJECTORY_KINDS", "ColumnMapping", "DuplicateColumnError", "EmptyTrajectoryError", "Finding", "MissingColumnError",
     "MotionPrior", "RejectedRow", "Span", "TrajectoryInputError", "TrajectoryReport", "TrajectoryTable",
     "check_trajectory", "check_trajectory_csv", "read_trajectory_csv",
 ]
@@ -27,7 +27,7 @@ __all__ = [
 from .diagnose import (BatchDiagnosis, ConstantOffset, DescriptionError, Diagnosis, ExpectedPose, Explanation,
                        average_rotation, axis_remaps, describe_remap, diagnose, diagnose_batch, expected_pose,
                        pose_from_words)
-from .parse import (Interpretation, NoInterpretationError, ParsedNumbers, PasteParseError, interpret_numbers,
+from ..io.paste import (Interpretation, NoInterpretationError, ParsedNumbers, PasteParseError, interpret_numbers,
                     parse_numbers, unit_judgement)
 
 __all__ += ["parse_numbers", "interpret_numbers", "unit_judgement", "ParsedNumbers", "Interpretation",

@@ -23,7 +23,7 @@ import sys
 import tempfile
 from pathlib import Path
 
-from ..core.errors import PoseInputError
+from ..core.errors import InputTooLargeError, PoseInputError
 
 __all__ = [
     "PASTE_LIMIT", "TEXT_FILE_LIMIT", "STATE_LIMIT", "REPORT_LIMIT", "LOG_LIMIT", "NAME_LIMIT",
@@ -43,10 +43,6 @@ REPORT_LIMIT = 64 << 20
 LOG_LIMIT = 1 << 30
 #: A frame name, a title, one word of convention text: 200 characters.
 NAME_LIMIT = 200
-
-
-class InputTooLargeError(PoseInputError):
-    """More bytes or characters than the documented limit; nothing past the limit was read."""
 
 
 class FileReadError(PoseInputError):
