@@ -43,7 +43,7 @@ from .errors import NotUnitQuaternionError, PoseInputError, WrongShapeError, Wro
     excerpt
 
 __all__ = ["KINDS", "read_rotation", "write_rotation", "convert", "as_convention",
-           "quaternion_product"]
+           "quaternion_product", "describe_numbers"]
 
 KINDS = ("matrix", "quaternion", "euler", "rotation-vector", "axis-angle", "planar-angle")
 #: Length tolerance given to the compiled loop when quaternions are normalised on purpose:
@@ -321,3 +321,43 @@ def quaternion_product(p, q, convention=None):
     if conv.scalar == "last":
         out = np.concatenate([out[..., 1:], out[..., :1]], axis=-1)
     return out
+
+
+def describe_numbers(kind: str, convention, *, count: int | None = None, position_first: bool = True,
+                     euler_detail: bool = False, action: bool = False, direction: bool = False) -> str:
+    """How a row of numbers is read, in words: the one wording of every reading posekit shows.
+
+    ``kind`` is a representation (``quaternion``, ``euler``, ``rotation-vector``, ``matrix``),
+    ``transform`` (``count`` 12 or 16), ``position`` or ``position-<representation>``;
+    ``euler_detail`` adds the turns in words, ``action`` / ``direction`` add those fields.
+
+    >>> describe_numbers("quaternion", "scalar=last")
+    'a quaternion written (x, y, z, w), Hamilton algebra'
+    >>> describe_numbers("position-euler", "unit=degrees", position_first=False, direction=True)
+    'Euler angles z-y-x intrinsic in degrees, parent-from-child, then a position (x, y, z)'
+    """
+    c = as_convention(convention)
+    if kind == "position":
+        return "a position (x, y, z) only"
+    rk = kind[len("position-"):] if kind.startswith("position-") else kind
+    layout = "row by row" if c.layout == "row-major" else "column by column"
+    if rk == "quaternion":
+        order = "(w, x, y, z)" if c.scalar == "first" else "(x, y, z, w)"
+        text = f"a quaternion written {order}, {'Hamilton' if c.algebra == 'hamilton' else 'JPL'} algebra"
+    elif rk == "euler":
+        text = f"Euler angles {c.sequence} {c.axes} in {c.unit}"
+        if euler_detail:
+            text += f" ({c.describe_euler()})"
+    elif rk == "rotation-vector":
+        text = f"a rotation vector (axis times angle) in {c.unit}"
+    elif rk == "transform":
+        text = f"a {'4x4 transform' if count == 16 else '3x4 [R | t] matrix'} written {layout}"
+    else:
+        text = f"a 3x3 matrix written {layout}"
+    if action:
+        text += ", " + c.action
+    if direction:
+        text += ", " + c.direction
+    if kind.startswith("position-"):
+        text = f"a position (x, y, z) then {text}" if position_first else f"{text}, then a position (x, y, z)"
+    return text

@@ -27,7 +27,7 @@ import numpy as np
 from ..core import rotation as rot
 from ..core.convention import CHOICES, DEFAULT, TOUCHES, Convention, hash_once
 from ..core.errors import ConventionError, PoseInputError
-from ..core.reading import as_convention, write_rotation
+from ..core.reading import as_convention, describe_numbers, write_rotation
 from ..core.transforms import make_transform, write_transform
 
 __all__ = ["KINDS", "FIELDS_OF_KIND", "COUNTS", "Reading", "stated_reading", "read_numbers", "split_numbers", "write_numbers",
@@ -132,27 +132,8 @@ class Reading:
     # --- words ------------------------------------------------------------------------
     def describe(self) -> str:
         """The reading in words, e.g. 'a quaternion written (x, y, z, w), Hamilton algebra, active, ...'."""
-        c = self.convention
-        rk = self.rotation_kind
-        if rk == "quaternion":
-            order = "(w, x, y, z)" if c.scalar == "first" else "(x, y, z, w)"
-            text = f"a quaternion written {order}, {'Hamilton' if c.algebra == 'hamilton' else 'JPL'} algebra"
-        elif rk == "euler":
-            text = f"Euler angles {c.sequence} {c.axes} in {c.unit}"
-        elif rk == "rotation-vector":
-            text = f"a rotation vector (axis times angle) in {c.unit}"
-        elif self.kind == "transform":
-            size = "4x4 transform" if self.count == 16 else "3x4 [R | t] matrix"
-            text = f"a {size} written {'row by row' if c.layout == 'row-major' else 'column by column'}"
-        else:
-            text = f"a 3x3 matrix written {'row by row' if c.layout == 'row-major' else 'column by column'}"
-        if self.parameterised:
-            text += ", " + c.action
-        text += ", " + c.direction
-        if self.kind.startswith("position-"):
-            text = (f"a position (x, y, z) then {text}" if self.position_first
-                    else f"{text}, then a position (x, y, z)")
-        return text
+        return describe_numbers(self.kind, self.convention, count=self.count, position_first=self.position_first,
+                                action=self.parameterised, direction=True)
 
     def said_back(self) -> str:
         """One line: the reading, which fields were stated and which were taken as defaults."""

@@ -61,6 +61,7 @@ import numpy as np
 from ..core import rotation as rot
 from ..core.checks import as_numbers, orthonormality_error
 from ..core.convention import Convention
+from ..core.reading import describe_numbers
 from ..core.errors import PoseInputError, excerpt, isolate_controls, odd_characters
 from .limits import PASTE_LIMIT, check_text_size
 
@@ -880,27 +881,8 @@ class Interpretation:
 
     def describe(self) -> str:
         """The reading in words, e.g. 'a quaternion written (x, y, z, w), Hamilton algebra'."""
-        c = self.convention
-        rk = self.rotation_kind
-        if rk == "quaternion":
-            order = "(w, x, y, z), scalar first" if c.scalar == "first" else "(x, y, z, w), scalar last"
-            rtext = f"a quaternion written {order}, {'Hamilton' if c.algebra == 'hamilton' else 'JPL'} algebra"
-        elif rk == "euler":
-            rtext = (f"Euler angles in {c.unit}, sequence {c.sequence} {c.axes} "
-                     f"({c.describe_euler()})")
-        elif rk == "rotation-vector":
-            rtext = f"a rotation vector (axis times angle) in {c.unit}"
-        elif self.kind == "transform":
-            size = "4x4 homogeneous transform" if self.count == 16 else "3x4 [R | t] matrix"
-            rtext = f"a {size} read {'row by row' if c.layout == 'row-major' else 'column by column'}"
-        elif self.kind == "position":
-            return "a position (x, y, z) only"
-        else:
-            rtext = f"a 3x3 rotation matrix read {'row by row' if c.layout == 'row-major' else 'column by column'}"
-        if self.kind.startswith("position-"):
-            return (f"a position (x, y, z) then {rtext}" if self.position_first
-                    else f"{rtext}, then a position (x, y, z)")
-        return rtext
+        return describe_numbers(self.kind, self.convention, count=self.count, position_first=self.position_first,
+                                euler_detail=True)
 
     def code(self, name: str = "numbers") -> str:
         """A posekit call that reads ``name`` (the pasted numbers) this way.
