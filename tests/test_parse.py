@@ -275,3 +275,24 @@ def test_typographic_minus_and_wrappers():
     with pytest.raises(PasteParseError) as info:
         parse_numbers("1 \u22120.5x")
     assert info.value.position == 2
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_numpy_scalar_lists_read_as_the_numbers_numpy_printed(seed):
+    # numpy 2 prints a list of its scalars as [np.float64(0.1), ...]; the reference is numpy's own repr
+    # of the generated values, read back by Python's float (the numbers must come back bit for bit)
+    rng = np.random.default_rng(seed)
+    count = (3, 4, 6, 7, 9, 16)[seed]
+    values = rng.normal(size=count) * 10.0 ** rng.integers(-6, 6, size=count)
+    kinds = (np.float64, np.float32, np.float64)
+    scalars = [kinds[i % 3](v) for i, v in enumerate(values)]
+    text = repr(scalars) if np.lib.NumpyVersion(np.__version__) >= "2.0.0" else \
+        "[" + ", ".join(f"np.{type(x).__name__}({x!r})" for x in scalars) + "]"
+    parsed = parse_numbers(text)
+    assert parsed.text == text
+    np.testing.assert_array_equal(parsed.numbers, [float(str(x)) for x in scalars])  # the digits numpy printed
+
+
+def test_numpy_scalar_wrapper_around_a_word_is_still_refused_with_its_position():
+    with pytest.raises(PasteParseError, match=r"column 19"):
+        parse_numbers("[np.float64(0.5), np.float64(x)]")

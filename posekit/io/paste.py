@@ -1365,12 +1365,35 @@ def parse_numbers(text: str, *, limit: int = PASTE_LIMIT) -> ParsedNumbers:
     return _parse(text, limit, standard_library=True)
 
 
+#: numpy 2 prints scalars in lists as ``np.float64(0.5)``: the wrapper is blanked out (same length, so
+#: positions in messages stay right) and the number inside is read.
+_NUMPY_SCALAR = re.compile(r"\b(?:np|numpy)\.(?:float|int|uint|longdouble|double)\d{0,3}\(\s*"
+                           r"([-+]?(?:\d[\d.]*(?:[eE][-+]?\d+)?|\.\d+(?:[eE][-+]?\d+)?|nan|inf))\s*\)")
+
+
+def _unwrap_numpy_scalars(text: str) -> str:
+    """``[np.float64(0.5), np.float64(-1e-3)]`` -> the same text with the wrappers blanked.
+
+    >>> _unwrap_numpy_scalars("[np.float64(0.5), np.int64(2)]")
+    '[           0.5 ,          2 ]'
+    """
+    if "np." not in text and "numpy." not in text:
+        return text
+
+    def blank(m):
+        head = m.start(1) - m.start()
+        tail = m.end() - m.end(1)
+        return " " * head + m.group(1) + " " * tail
+    return _NUMPY_SCALAR.sub(blank, text)
+
+
 def _parse(text: str, limit: int, standard_library: bool) -> ParsedNumbers:
     """:func:`parse_numbers`; ``standard_library=False`` skips step 3 (the tests compare both ways)."""
     if not isinstance(text, str):
         raise PasteParseError(f"expected text, got {type(text).__name__}", "", 0,
                               "a string of pasted numbers; pass arrays to interpret_numbers")
     check_text_size(text, what="pasted text", limit=limit)
+    shown, text = text, _unwrap_numpy_scalars(text)
     try:
         _check_nesting(text)
         _check_commas(text)
@@ -1388,7 +1411,8 @@ def _parse(text: str, limit: int, standard_library: bool) -> ParsedNumbers:
                 raise _Stop(f"{_q(tokens.toks[bad])} is too large to be a finite number", tokens.start(bad),
                             accepted=f"numbers of magnitude below {np.finfo(np.float64).max:.4g}")
     except _Stop as stop:
-        raise stop.kind(stop.reason, text, stop.position, stop.accepted) from None
+        raise stop.kind(stop.reason, shown, stop.position, stop.accepted) from None
+    text = shown
     arr.setflags(write=False)
     if names is not None:
         interps, named_notes = _interpret_named(arr, names, units, text)
