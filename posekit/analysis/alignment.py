@@ -1,0 +1,1377 @@
+"""Two sensors bolted to one rigid body: their clock offset, the mount between them, and the slip in B.
+
+Stream A (the reference, read as stated) and stream B (its reading under suspicion) log
+the orientation -- or the pose -- of two sensors on one rigid body, each in its own
+conventions and on its own clock.  :func:`align_streams` answers three questions in order:
+
+1. **Time offset.**  The angular speed ``|omega(t)|`` of a rigid body is the same for every
+   sensor on it and does not depend on the frame the orientation is written in, on active
+   vs passive, on the transform direction or on the quaternion algebra (each of those
+   transposes every matrix or turns it by a constant, and the angle of ``R_k^T R_{k+1}``
+   survives both).  Both speeds are resampled onto one grid and cross-correlated
+   (:data:`OFFSET_METHOD` says how, and how the uncertainty is made).  Readings that change
+   what the numbers *mean* -- component order, Euler sequence, angle unit, kind -- change
+   the speeds, so every reading of B (:func:`posekit.explain.readings_of`) is tried and
+   ranked by how well its speeds match A's: the first evidence for the diagnosis.
+2. **Mount.**  Paired relative motions satisfy ``A_i X = X B_i`` (``X``: B's frame in A's
+   body frame, ``p_A = X p_B``).  Rotation by the closed form of Park & Martin 1994
+   (:func:`park_martin_rotation`), translation by stacked linear least squares
+   (:func:`mount_translation`).  A motion that cannot fix ``X`` (too little rotation, or
+   every rotation axis along one line) raises :class:`DegenerateMotionError` saying which
+   motion to add.
+3. **Explanation.**  Over every reading of B and the engine's relations (the rotation
+   transposed, the direction flipped; length unit and translation frame for poses), the
+   one under which *one constant mount* explains every pair -- smallest residual of
+   ``A_i X`` against ``X B_i``, plus the engine's prior -- is the diagnosis, returned as a
+   :class:`~posekit.explain.Slip` with its sentence and fix code.  An axis remap of B's own
+   frame is a different mount as far as relative motions go; given ``nominal_mount`` (the
+   mount from the drawing), a found mount that is the nominal one times a signed axis
+   permutation is named as that remap.  Readings the data cannot tell apart are said, with
+   the motion that would separate them.
+
+Conventions of the results: ``offset`` is the number of seconds to *add to B's time
+stamps* to put them on A's clock; ``mount`` maps B's (corrected) frame into A's body frame;
+residuals are per pair of consecutive key samples, in degrees and metres (A's length unit).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..core import rotation as rot
+from ..core.checks import as_numbers, checked_count, checked_matrix, checked_tolerance, orthonormality_error
+from ..core.errors import PoseInputError, WrongShapeError, summarise
+from ..explain import (COUNTS, EQUIVALENT, PRIOR_WEIGHT, PROPER_REMAPS, REMAPS, Reading, Slip, angles_between,
+                       describe_remap, fix_code, read_numbers, readings_of, remap_cost, sentence, stated_reading,
+                       write_numbers)
+from ..explain.scorer import det3
+
+__all__ = ["AlignmentError", "StreamTimesError", "NoOverlapError", "DegenerateMotionError", "ReferenceStreamError",
+           "OFFSET_METHOD", "TimeOffset", "SpeedMatch", "PairResiduals", "MountExplanation", "StreamAlignment",
+           "relative_angles", "angular_speeds", "park_martin_rotation", "mount_translation",
+           "solve_mount", "align_streams"]
+
+#: Fewest samples a stream may have.
+MIN_SAMPLES = 20
+#: Key samples closer than this in A's turning (radians) are merged; the default pair spacing.
+DEFAULT_PAIR_ANGLE = math.radians(20.0)
+#: Largest grid the coarse correlation runs on (samples per stream); finer grids are block-averaged.
+COARSE_SAMPLES = 16384
+#: Largest fine grid (samples per stream); a finer natural grid step is widened to stay below it.
+FINE_SAMPLES = 1 << 21
+#: How many speed classes get the fine (full-resolution) offset besides those that match nearly as well.
+REFINED_CLASSES = 3
+#: A's numbers must read as rotations to this orthonormality error (printed digits, as posekit's diagnosis).
+READ_TOLERANCE = 1e-3
+#: At most this many readings listed per kind of tie under one explanation.
+MEMBERS_SHOWN = 8
+#: The extra turn tried when a near tie needs a second motion to separate it.
+PROBE_TURN = math.radians(30.0)
+
+#: Contiguous blocks of the overlap for the delete-a-block jackknife of the offset.
+JACKKNIFE_BLOCKS = 8
+
+OFFSET_METHOD = (
+    "normalised cross-correlation (Pearson's coefficient per lag, over the overlap only) of A's and B's angular "
+    "speeds |omega(t)| resampled onto one grid, computed with the FFT (coarse grid for every reading, the full "
+    "grid around the peak for the best ones); the peak is refined to a sub-sample lag by a parabola through the "
+    "top three lags. Uncertainty (one standard deviation, seconds) = sqrt(s_j^2 + s_i^2): s_j is the "
+    f"delete-a-block jackknife of that sub-sample peak over {JACKKNIFE_BLOCKS} contiguous blocks of the overlap "
+    "(Kunsch 1989, 'The jackknife and the bootstrap for general stationary observations', Annals of Statistics "
+    "17(3)), the scatter the data themselves show; s_i is the distance between the parabola's peak and a "
+    "three-point Gaussian fit's peak (Willert & Gharib 1991, Experiments in Fluids 10(4)), the part the peak's "
+    "shape leaves open. The peak's lobe and a second peak beyond it are reported too (a periodic motion).")
+
+
+# --------------------------------------------------------------------------------------
+# errors
+# --------------------------------------------------------------------------------------
+
+class AlignmentError(PoseInputError):
+    """Two streams that cannot be aligned as given (each subclass says why and what would do)."""
+
+
+class StreamTimesError(AlignmentError, WrongShapeError):
+    """Time stamps that are not one strictly increasing number per sample."""
+
+
+class NoOverlapError(AlignmentError):
+    """The two streams do not cover a long enough common stretch of time."""
+
+
+class DegenerateMotionError(AlignmentError):
+    """The motion cannot fix the offset or the mount; the message says which motion to add."""
+
+
+class ReferenceStreamError(AlignmentError):
+    """Stream A (the reference) does not read as rotations under its stated reading."""
+
+
+# --------------------------------------------------------------------------------------
+# small math: angles of relative rotations, speeds, the hand-eye solvers
+# --------------------------------------------------------------------------------------
+
+def relative_angles(r0, r1) -> np.ndarray:
+    """Angle (radians, in [0, pi]) of ``r0^T r1`` for ``(..., 3, 3)`` stacks -> ``(...)``.
+
+    The log map of Park & Martin 1994 ("Robot sensor calibration: solving AX = XB on the
+    Euclidean group", IEEE Trans. Robotics and Automation 10(5)): for ``T = r0^T r1``,
+    ``1 + 2 cos(phi) = tr T`` and ``T - T^T = 2 sin(phi) [axis]x``.  ``tr T`` is the sum of
+    the element-wise products of r0 and r1; ``2 sin(phi)`` is the length of ``sum_i c_i x d_i``
+    over the columns ``c_i`` of r0 and ``d_i`` of r1, which is ``vee(S - S^T)`` of
+    ``S = r1 r0^T`` (a rotation by the same angle), so no 3x3 product is formed;
+    ``atan2(2 sin, 2 cos)`` keeps digits near 0 and pi (common practice).
+
+    >>> from posekit.core.rotation import elementary_matrix as E
+    >>> round(float(relative_angles(E("z", 0.2), E("z", 0.5))), 12)
+    0.3
+    """
+    a = np.asarray(r0, dtype=np.float64)
+    b = np.asarray(r1, dtype=np.float64)
+    two_cos = np.einsum("...ij,...ij->...", a, b) - 1.0
+
+    def dot(i, j):
+        return np.einsum("...k,...k->...", a[..., i, :], b[..., j, :])
+
+    x = dot(1, 2) - dot(2, 1)
+    y = dot(2, 0) - dot(0, 2)
+    z = dot(0, 1) - dot(1, 0)
+    return np.arctan2(np.sqrt(x * x + y * y + z * z), two_cos)
+
+
+def angular_speeds(times, rotations, stride: int = 1):
+    """Angular speed magnitudes of one stream: ``times (N,)``, ``rotations (N, 3, 3)`` ->
+    ``(mid-times (N - stride,), speeds (N - stride,) in radians per second)``.
+
+    Each speed is the angle of ``R_k^T R_{k+stride}`` (:func:`relative_angles`) over the time
+    between the two samples, stamped at their midpoint.  The angle does not change when
+    every matrix is transposed or turned by one constant rotation on either side.
+    """
+    t = np.asarray(times, dtype=np.float64)
+    r = np.asarray(rotations, dtype=np.float64)
+    ang = relative_angles(r[:-stride], r[stride:])
+    return 0.5 * (t[stride:] + t[:-stride]), ang / (t[stride:] - t[:-stride])
+
+
+def _log(matrices) -> np.ndarray:
+    """Rotation vectors (log map, Park & Martin 1994) of ``(..., 3, 3)`` rotations, via the quaternion."""
+    return rot.rotvec_of_quaternion(rot.quaternion_of_matrix(matrices))
+
+
+def park_martin_rotation(alpha, beta) -> np.ndarray:
+    """Rotation ``R_X`` of the mount from paired rotation vectors: ``alpha, beta (P, 3) -> (3, 3)``.
+
+    Park & Martin 1994 (IEEE Trans. Robotics and Automation 10(5)): ``A_i X = X B_i`` gives
+    ``alpha_i = R_X beta_i`` for the log maps ``alpha_i = log A_i``, ``beta_i = log B_i``; the
+    least-squares solution is ``R_X = (M^T M)^(-1/2) M^T`` with ``M = sum_i beta_i alpha_i^T``.
+    With ``M = U S V^T`` that is ``V U^T``, which this computes by the SVD, so it stays defined
+    when the axes span only a plane (rank-2 ``M``); a reflection is turned into the nearest
+    rotation by flipping the smallest singular direction (Arun, Huang & Blostein 1987,
+    "Least-squares fitting of two 3-D point sets", IEEE Trans. PAMI 9(5); Umeyama 1991,
+    IEEE Trans. PAMI 13(4)).
+
+    >>> from posekit.core.rotation import elementary_matrix as E
+    >>> beta = np.eye(3) * 0.4                        # turns about B's x, y, z axes
+    >>> alpha = beta @ E("z", 0.3).T                   # alpha_i = R beta_i, R a turn of 0.3 about z
+    >>> bool(np.allclose(park_martin_rotation(alpha, beta), E("z", 0.3)))
+    True
+    """
+    a = np.asarray(alpha, dtype=np.float64).reshape(-1, 3)
+    b = np.asarray(beta, dtype=np.float64).reshape(-1, 3)
+    m = b.T @ a                                              # sum_i beta_i alpha_i^T
+    u, _, vt = np.linalg.svd(m)
+    d = np.sign(np.linalg.det(vt.T @ u.T)) or 1.0
+    return vt.T @ np.diag([1.0, 1.0, d]) @ u.T
+
+
+def mount_translation(rotation_a, translation_a, mount_rotation, translation_b):
+    """Translation ``t_X`` of the mount by stacked linear least squares -> ``(t_X (3,), rank)``.
+
+    From the translation part of ``A_i X = X B_i`` (Park & Martin 1994; Tsai & Lenz 1989,
+    IEEE Trans. Robotics and Automation 5(3)): ``(R_Ai - I) t_X = R_X t_Bi - t_Ai``, all pairs
+    stacked into one ``(3P, 3)`` system.  ``rotation_a (P, 3, 3)``, ``translation_a (P, 3)``,
+    ``mount_rotation (3, 3)``, ``translation_b (P, 3)`` or ``(K, P, 3)`` (K right-hand sides at
+    once -> ``t_X (K, 3)``).  ``rank`` < 3 means the rotation axes did not fix ``t_X``.
+    """
+    ra = np.asarray(rotation_a, dtype=np.float64)
+    c = (ra - np.eye(3)).reshape(-1, 3)
+    tb = np.asarray(translation_b, dtype=np.float64)
+    rhs = np.einsum("ab,...nb->...na", mount_rotation, tb) - np.asarray(translation_a, dtype=np.float64)
+    flat = rhs.reshape(rhs.shape[:-2] + (-1,))
+    sol, _, rank, _ = np.linalg.lstsq(c, np.atleast_2d(flat).T, rcond=None)
+    sol = sol.T
+    return (sol[0] if rhs.ndim == 2 else sol), int(rank)
+
+
+def solve_mount(motions_a, motions_b):
+    """The mount ``X`` with ``A_i X = X B_i`` from paired relative motions.
+
+    ``motions_a``, ``motions_b``: ``(P, 3, 3)`` rotations or ``(P, 4, 4)`` transforms, pair ``i``
+    being the same interval seen by both sensors.  Returns ``(R_X (3, 3), t_X (3,) or None)``:
+    rotation by :func:`park_martin_rotation` on the log maps, translation (4x4 input) by
+    :func:`mount_translation`.  Needs at least two pairs whose rotation axes are not parallel
+    (checked by :func:`align_streams`, not here).
+
+    >>> from scipy.spatial.transform import Rotation
+    >>> x = Rotation.from_euler("zyx", [30, -10, 5], degrees=True).as_matrix()
+    >>> b = Rotation.from_rotvec([[0.5, 0, 0], [0, 0.4, 0.1], [0.2, 0, 0.6]]).as_matrix()
+    >>> a = x @ b @ x.T                                          # A_i = X B_i X^T
+    >>> bool(np.allclose(solve_mount(a, b)[0], x))
+    True
+    """
+    a = as_numbers(motions_a, "motions_a")
+    b = as_numbers(motions_b, "motions_b")
+    if a.ndim != 3 or a.shape[1:] not in ((3, 3), (4, 4)) or b.shape != a.shape:
+        raise WrongShapeError(f"solve_mount: got shapes {a.shape} and {b.shape}; expected two (P, 3, 3) or two "
+                              "(P, 4, 4) stacks of the same shape (pair i = the same interval in both)")
+    rx = park_martin_rotation(_log(a[:, :3, :3]), _log(b[:, :3, :3]))
+    if a.shape[1] == 3:
+        return rx, None
+    tx, _ = mount_translation(a[:, :3, :3], a[:, :3, 3], rx, b[:, :3, 3])
+    return rx, tx
+
+
+# --------------------------------------------------------------------------------------
+# time offset
+# --------------------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class TimeOffset:
+    """The clock offset found from one reading's speeds.
+
+    ``offset`` seconds to add to B's stamps (A's clock = B's + offset); ``uncertainty``
+    seconds, one standard deviation (:data:`OFFSET_METHOD`: block jackknife plus peak-shape
+    term); ``correlation`` Pearson's coefficient at the peak;
+    ``second_peak`` the highest correlation outside the peak's lobe (NaN when none: a
+    value near ``correlation`` means a periodic motion left the offset ambiguous);
+    ``mismatch`` rms(|w_A| - |w_B|) / rms(|w_A|) over the overlap at the peak (the speeds
+    of one rigid body are equal, not merely alike); ``grid_step`` seconds; ``overlap``
+    seconds; ``samples`` independent speed samples in the overlap; ``refined``: the peak
+    was searched on the full grid (else on the coarse one).
+    """
+
+    offset: float
+    uncertainty: float
+    correlation: float
+    second_peak: float
+    mismatch: float
+    grid_step: float
+    overlap: float
+    samples: int
+    refined: bool
+
+    @property
+    def ambiguous(self) -> bool:
+        """Another lag correlates within two standard errors of the peak (a periodic motion); the
+        standard error of a correlation coefficient is ``(1 - r^2) / sqrt(n - 1)`` (Pearson & Filon
+        1898, Phil. Trans. R. Soc. A 191), n the independent speed samples in the overlap."""
+        if not np.isfinite(self.second_peak):
+            return False
+        se = (1.0 - self.correlation ** 2) / math.sqrt(max(self.samples - 1, 1))
+        return bool(self.correlation - self.second_peak <= 2.0 * se + 1e-3)
+
+    def as_dict(self) -> dict:
+        return {"offset_seconds": self.offset, "uncertainty_seconds": self.uncertainty,
+                "correlation": self.correlation,
+                "second_peak": None if not np.isfinite(self.second_peak) else self.second_peak,
+                "mismatch": self.mismatch, "grid_step_seconds": self.grid_step, "overlap_seconds": self.overlap,
+                "independent_samples": self.samples, "refined": self.refined, "ambiguous": self.ambiguous}
+
+
+def _pearson_sums(a0, b0, ma, mb, lags, sab):
+    """Pearson coefficient and mismatch of ``a[m + k]`` against ``b[m]`` over the overlap, per lag
+    ``k``, from the cross sums ``sab`` of the mean-removed signals ``a0``, ``b0`` (means ``ma``, ``mb``)."""
+    na, nb = len(a0), len(b0)
+    m0 = np.maximum(0, -lags)
+    m1 = np.minimum(nb, na - lags)
+    n = np.maximum(m1 - m0, 0)
+    ca = np.concatenate([[0.0], np.cumsum(a0)])
+    caa = np.concatenate([[0.0], np.cumsum(a0 * a0)])
+    cb = np.concatenate([[0.0], np.cumsum(b0)])
+    cbb = np.concatenate([[0.0], np.cumsum(b0 * b0)])
+    lo_a = np.clip(m0 + lags, 0, na)
+    hi_a = np.clip(m1 + lags, 0, na)
+    lo_b = np.clip(m0, 0, nb)
+    hi_b = np.clip(m1, 0, nb)
+    sa, saa = ca[hi_a] - ca[lo_a], caa[hi_a] - caa[lo_a]
+    sb, sbb = cb[hi_b] - cb[lo_b], cbb[hi_b] - cbb[lo_b]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        nn = np.where(n > 0, n, 1)
+        va = saa - sa * sa / nn
+        vb = sbb - sb * sb / nn
+        r = (sab - sa * sb / nn) / np.sqrt(va * vb)
+        d = ma - mb
+        diff2 = saa + sbb - 2.0 * sab + 2.0 * d * (sa - sb) + n * d * d       # sum (a - b)^2 over the overlap
+        aa = saa + 2.0 * ma * sa + n * ma * ma                                  # sum a^2 over the overlap
+        mism = np.sqrt(np.maximum(diff2, 0.0) / aa)
+    ok = (n > 1) & (va > 0) & (vb > 0) & np.isfinite(r)
+    return np.where(ok, r, np.nan), np.where(ok, mism, np.nan), n
+
+
+def _all_lags(a, b):
+    """Every lag ``k`` (``a[m + k]`` against ``b[m]``): ``(lags, r, mismatch, n)``, the cross sums by the FFT."""
+    ma, mb = float(np.mean(a)), float(np.mean(b))
+    a0, b0 = a - ma, b - mb
+    size = 1 << int(math.ceil(math.log2(len(a) + len(b) - 1)))
+    cross = np.fft.irfft(np.fft.rfft(a0, size) * np.conj(np.fft.rfft(b0, size)), size)
+    lags = np.arange(-(len(b) - 1), len(a))
+    r, mism, n = _pearson_sums(a0, b0, ma, mb, lags, cross[lags % size])
+    return lags, r, mism, n
+
+
+def _at_lags(a, b, lags):
+    """The same as :func:`_all_lags` at a few lags, the cross sums by direct dot products."""
+    ma, mb = float(np.mean(a)), float(np.mean(b))
+    a0, b0 = a - ma, b - mb
+    sab = np.empty(len(lags))
+    for i, k in enumerate(lags):
+        lo, hi = max(0, -k), min(len(b), len(a) - k)
+        sab[i] = float(np.dot(a0[lo + k:hi + k], b0[lo:hi])) if hi > lo else 0.0   # np.dot: no matmul dispatch
+    return _pearson_sums(a0, b0, ma, mb, np.asarray(lags), sab)
+
+
+def _block_mean(x, d):
+    n = len(x) // d
+    return x[:n * d].reshape(n, d).mean(axis=1)
+
+
+def _peak_shift(cm, c0, cp):
+    """Sub-sample shift of a three-point peak: the parabola's (common practice) and the Gaussian's
+    (Willert & Gharib 1991, Experiments in Fluids 10(4)); the latter NaN unless all three are > 0."""
+    den = cm - 2.0 * c0 + cp
+    par = 0.5 * (cm - cp) / den if den < 0 else 0.0
+    gau = float("nan")
+    if min(cm, c0, cp) > 0:
+        lm, l0, lp = math.log(cm), math.log(c0), math.log(cp)
+        gden = lm - 2.0 * l0 + lp
+        if gden < 0:
+            gau = 0.5 * (lm - lp) / gden
+    return float(np.clip(par, -0.5, 0.5)), gau, den
+
+
+def _jackknife_shift(a, b, k: int, blocks: int = JACKKNIFE_BLOCKS) -> float:
+    """Standard deviation (in lags) of the parabola's sub-sample peak around lag ``k`` by the
+    delete-a-block jackknife (Kunsch 1989, Annals of Statistics 17(3)): the overlap of lags
+    ``k - 1, k, k + 1`` is cut into ``blocks`` contiguous blocks, the peak is found again with
+    each block left out, and ``var = (J - 1) / J * sum (shift_j - mean)^2``.  NaN when the
+    overlap is too short to split or a left-out peak is no peak."""
+    lags = (k - 1, k, k + 1)
+    m0 = max(max(0, -lag) for lag in lags)
+    m1 = min(min(len(b), len(a) - lag) for lag in lags)
+    if m1 - m0 < 3 * blocks:
+        return float("nan")
+    edges = np.linspace(m0, m1, blocks + 1).astype(int)
+    at = edges[:-1] - m0
+    bseg = b[m0:m1] - np.mean(b[m0:m1])
+    ma = float(np.mean(a[m0 + k:m1 + k]))
+    counts = np.diff(edges).astype(float)
+    n = counts.sum() - counts                                           # samples left with block j out
+
+    def left_out(x):
+        parts = np.add.reduceat(x, at)
+        return parts.sum() - parts
+
+    sb, sbb = left_out(bseg), left_out(bseg * bseg)
+    rs = []
+    for lag in lags:
+        aseg = a[m0 + lag:m1 + lag] - ma
+        sab, sa, saa = left_out(aseg * bseg), left_out(aseg), left_out(aseg * aseg)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            rs.append((sab - sa * sb / n) / np.sqrt((saa - sa * sa / n) * (sbb - sb * sb / n)))
+    rm, r0, rp = rs
+    den = rm - 2.0 * r0 + rp
+    if not np.all(den < 0):
+        return float("nan")
+    shifts = np.clip(0.5 * (rm - rp) / den, -1.0, 1.0)
+    return float(math.sqrt((blocks - 1) / blocks * float(np.sum((shifts - shifts.mean()) ** 2))))
+
+
+@dataclass
+class _Grid:
+    """Both streams' speeds on one grid: ``a`` from ``start_a``, ``b`` from ``start_b``, step ``h``."""
+
+    a: np.ndarray
+    start_a: float
+    h: float
+    block: int
+    a_coarse: np.ndarray
+    window: float
+    max_offset: float | None
+    min_overlap: float
+
+
+def _grid_of(mid, speed, start, h, span):
+    n = int(math.floor(span / h)) + 1
+    return np.interp(start + h * np.arange(n), mid, speed)
+
+
+def _lag_ok(lags, n, base, h, grid: _Grid, n_min):
+    ok = n >= n_min
+    if grid.max_offset is not None:
+        ok &= np.abs(base + h * lags) <= grid.max_offset + 0.5 * h
+    return ok
+
+
+def _estimate_offset(grid: _Grid, b_mid, b_speed, *, refine: bool = True) -> TimeOffset:
+    """Offset of B's speeds ``(mid-times, speeds)`` against A's on ``grid`` (:data:`OFFSET_METHOD`)."""
+    start_b = float(b_mid[0])
+    b = _grid_of(b_mid, b_speed, start_b, grid.h, float(b_mid[-1] - b_mid[0]))
+    base = grid.start_a - start_b                    # offset at lag 0: a[n] at start_a + n h, b[m] at start_b + m h
+    d = grid.block
+    n_min = max(3, int(grid.min_overlap * min(len(grid.a), len(b))))
+    # coarse: block means (each block centred alike in both, so coarse lag K is fine lag K d)
+    bc = _block_mean(b, d) if d > 1 else b
+    lags, r, mism, n = _all_lags(grid.a_coarse, bc)
+    ok = _lag_ok(lags, n, base, grid.h * d, grid, max(3, n_min // d)) & np.isfinite(r)
+    if not np.any(ok):
+        raise NoOverlapError(
+            f"stream B: no time offset leaves an overlap of at least {grid.min_overlap:g} of the shorter stream"
+            + ("" if grid.max_offset is None else f" within max_offset={grid.max_offset:g} s")
+            + f" (A's speeds span {len(grid.a) * grid.h:.4g} s, B's {len(b) * grid.h:.4g} s); accepted: streams "
+              "that record the same motion over a common stretch (lower min_overlap or raise max_offset)")
+    rr = np.where(ok, r, -np.inf)
+    i = int(np.argmax(rr))
+    # the peak's lobe: downhill on both sides; the best correlation beyond it is the second peak
+    lo = i
+    while lo > 0 and ok[lo - 1] and rr[lo - 1] < rr[lo]:
+        lo -= 1
+    hi = i
+    while hi < len(rr) - 1 and ok[hi + 1] and rr[hi + 1] < rr[hi]:
+        hi += 1
+    outside = np.concatenate([rr[:lo], rr[hi + 1:]])
+    outside = outside[np.isfinite(outside)]
+    second = float(outside.max()) if outside.size else float("nan")
+    if refine and d > 1:
+        k0 = int(lags[i]) * d
+        lo_k, hi_k = k0 - 2 * d - 1, k0 + 2 * d + 1
+        for _ in range(6):                            # widen while the best lag sits on the edge of the window
+            fl = np.arange(lo_k, hi_k + 1)
+            fr, fm, fn = _at_lags(grid.a, b, fl)
+            fok = _lag_ok(fl, fn, base, grid.h, grid, n_min) & np.isfinite(fr)
+            if not np.any(fok):
+                break
+            j = int(np.argmax(np.where(fok, fr, -np.inf)))
+            if 0 < j < len(fl) - 1:
+                break
+            lo_k, hi_k = (lo_k - 2 * d, hi_k) if j == 0 else (lo_k, hi_k + 2 * d)
+        if np.any(fok):
+            lags, r, mism, n, ok, i, h = fl, fr, fm, fn, fok, j, grid.h
+        else:
+            h = grid.h * d
+    else:
+        h = grid.h * d
+    sig_a, sig_b = (grid.a, b) if h == grid.h else (grid.a_coarse, bc)
+    rho = float(r[i])
+    shift, gauss, curv = 0.0, float("nan"), 0.0
+    if 0 < i < len(r) - 1 and ok[i - 1] and ok[i + 1]:
+        shift, gauss, curv = _peak_shift(float(r[i - 1]), rho, float(r[i + 1]))
+    offset = base + h * (float(lags[i]) + shift)
+    overlap = float(n[i]) * h
+    samples = max(2, int(overlap / grid.window))
+    if curv < 0:
+        s_j = _jackknife_shift(sig_a, sig_b, int(lags[i]))
+        s_j = 0.5 if not np.isfinite(s_j) else s_j            # too short to split: half a grid step
+        s_i = abs(shift - gauss) if np.isfinite(gauss) else 0.5
+        unc = h * math.sqrt(s_j * s_j + s_i * s_i)
+    else:
+        unc = float("inf")                           # no peak to refine: the lag is a grid edge
+    found = TimeOffset(float(offset), float(unc), rho, second, float(mism[i]), float(h), overlap, samples,
+                       bool(refine or d == 1))
+    return found
+
+
+# --------------------------------------------------------------------------------------
+# results
+# --------------------------------------------------------------------------------------
+
+@dataclass(frozen=True, eq=False)
+class SpeedMatch:
+    """Step 1's evidence for one reading of B: how well its angular speeds match A's.
+
+    ``reading``: the simplest reading of the class (fewest deviations from the stated one);
+    ``readings``: every reading with these same speeds (they differ only in what the speeds
+    cannot see, e.g. a transposed matrix or an axis relabelling); ``time_offset`` found
+    with them; ``slip``: ``Slip(stated, reading)`` and its ``sentence``.
+    """
+
+    rank: int
+    reading: Reading
+    readings: tuple[Reading, ...]
+    time_offset: TimeOffset
+    slip: Slip
+    sentence: str
+
+    def as_dict(self) -> dict:
+        return {"rank": self.rank, "reading": self.reading.text(), "kind": self.reading.kind,
+                "words": self.reading.describe(), "sentence": self.sentence,
+                "same_speeds": [r.text() for r in self.readings[1:]], **self.time_offset.as_dict()}
+
+
+@dataclass(frozen=True, eq=False)
+class PairResiduals:
+    """Per-pair residuals of ``A_i X`` against ``X B_i``: ``times (P, 2)`` (start, end on A's clock),
+    ``rotation_degrees (P,)``, ``translation (P,)`` in A's length unit or None (rotation only)."""
+
+    times: np.ndarray
+    rotation_degrees: np.ndarray
+    translation: np.ndarray | None
+
+    @property
+    def rotation_rms(self) -> float:
+        return float(np.sqrt(np.mean(self.rotation_degrees ** 2)))
+
+    @property
+    def rotation_max(self) -> float:
+        return float(np.max(self.rotation_degrees))
+
+    @property
+    def translation_rms(self) -> float | None:
+        return None if self.translation is None else float(np.sqrt(np.mean(self.translation ** 2)))
+
+    @property
+    def translation_max(self) -> float | None:
+        return None if self.translation is None else float(np.max(self.translation))
+
+    def as_dict(self) -> dict:
+        return {"pairs": int(len(self.rotation_degrees)), "times": self.times.tolist(),
+                "rotation_degrees": self.rotation_degrees.tolist(), "rotation_rms_degrees": self.rotation_rms,
+                "rotation_max_degrees": self.rotation_max,
+                "translation": None if self.translation is None else self.translation.tolist(),
+                "translation_rms": self.translation_rms, "translation_max": self.translation_max}
+
+
+@dataclass(frozen=True, eq=False)
+class MountExplanation:
+    """One reading of B (with its relation, unit and remap) under which one constant mount was fitted.
+
+    ``slip``: the :class:`~posekit.explain.Slip` (B's stated reading vs how its numbers were
+    written); ``sentence`` and ``code`` (a runnable posekit snippet undoing the slip on
+    ``logged_numbers``, B's ``(N, n)`` array); ``mount_rotation (3, 3)``, ``mount_translation
+    (3,)`` or None: B's corrected frame in A's body frame; ``mount_numbers``: that mount
+    written in B's stated reading; ``residuals``; ``time_offset`` (of this reading's speeds);
+    ``cost`` (``0.5 sum (residual / tolerance)^2 + PRIOR_WEIGHT * deviations``, plus the
+    nominal-mount term when one was given); ``speed_rank``: its reading's place in step 1.
+
+    ``same``: other slips that read B's numbers to the same rotations for every input (the
+    same mistake written another way); ``mount_only``: ``(sentence, words)`` of readings
+    that fit these data exactly as well with a different mount (B's axes relabelled: only
+    the mount, or ``nominal_mount``, tells them apart); ``separable``: ``(sentence,
+    motion words)`` of readings that fit these data nearly as well and the extra motion
+    that would tell them apart; ``near_tie``: this one leads only by the prior or a margin
+    the data barely give.  ``nominal_angle_degrees``: angle between the mount and the
+    nominal one (None without a nominal mount).
+    """
+
+    rank: int
+    slip: Slip
+    sentence: str
+    code: str
+    mount_rotation: np.ndarray
+    mount_translation: np.ndarray | None
+    mount_numbers: tuple[float, ...]
+    residuals: PairResiduals
+    time_offset: TimeOffset
+    cost: float
+    deviations: float
+    speed_rank: int
+    same: tuple[str, ...] = ()
+    mount_only: tuple[tuple[str, str], ...] = ()
+    separable: tuple[tuple[str, str], ...] = ()
+    near_tie: bool = False
+    nominal_angle_degrees: float | None = None
+
+    @property
+    def mount(self) -> np.ndarray:
+        """``(4, 4)`` with a translation, else ``(3, 3)``."""
+        if self.mount_translation is None:
+            return self.mount_rotation.copy()
+        m = np.eye(4)
+        m[:3, :3], m[:3, 3] = self.mount_rotation, self.mount_translation
+        return m
+
+    def as_dict(self) -> dict:
+        return {"rank": self.rank, "sentence": self.sentence, "code": self.code,
+                "reading": self.slip.true.text(), "kind": self.slip.true.kind,
+                "mount": np.round(self.mount, 12).tolist(), "mount_numbers": [float(v) for v in self.mount_numbers],
+                "residuals": self.residuals.as_dict(), "time_offset": self.time_offset.as_dict(),
+                "cost": self.cost, "deviations": self.deviations, "speed_rank": self.speed_rank,
+                "same_mistake_written_another_way": list(self.same),
+                "fits_as_well_with_another_mount": [{"sentence": s, "mount": w} for s, w in self.mount_only],
+                "another_motion_would_separate": [{"sentence": s, "motion": w} for s, w in self.separable],
+                "near_tie": self.near_tie, "nominal_angle_degrees": self.nominal_angle_degrees,
+                "slip": self.slip.as_dict()}
+
+
+@dataclass(frozen=True, eq=False)
+class StreamAlignment:
+    """What :func:`align_streams` found.
+
+    ``offset`` / ``offset_uncertainty`` seconds (add to B's stamps); ``time_offset`` the full
+    :class:`TimeOffset` of the diagnosed reading; ``mount`` ``(4, 4)`` (both streams carry
+    positions) or ``(3, 3)``: B's corrected frame in A's body frame; ``mount_numbers`` it
+    written in B's stated reading; ``residuals`` (:class:`PairResiduals`) of the diagnosis;
+    ``explanations`` ranked (:class:`MountExplanation`, best first); ``speed_matches`` step 1's
+    ranking (:class:`SpeedMatch`); ``slip`` / ``sentence`` / ``verdict``; ``explained``: the
+    best explanation's rms residuals are within the tolerances; ``motion``: how much and
+    about which axes A turned over the pairs; ``notes``.
+    """
+
+    offset: float
+    offset_uncertainty: float
+    time_offset: TimeOffset
+    mount: np.ndarray
+    mount_numbers: tuple[float, ...]
+    residuals: PairResiduals
+    explanations: tuple[MountExplanation, ...]
+    speed_matches: tuple[SpeedMatch, ...]
+    slip: Slip
+    sentence: str
+    verdict: str
+    explained: bool
+    stated_a: Reading
+    stated_b: Reading
+    motion: dict
+    notes: tuple[str, ...] = ()
+
+    @property
+    def best(self) -> MountExplanation:
+        return self.explanations[0]
+
+    @property
+    def mount_rotation(self) -> np.ndarray:
+        return self.mount[:3, :3]
+
+    @property
+    def mount_translation(self) -> np.ndarray | None:
+        return self.mount[:3, 3] if self.mount.shape == (4, 4) else None
+
+    def summary(self) -> str:
+        """Plain-text report, one fact per line."""
+        r = self.residuals
+        lines = [self.verdict,
+                 f"stream A (reference): {self.stated_a.said_back()}",
+                 f"stream B: {self.stated_b.said_back()}",
+                 f"time offset: add {self.offset:+.6g} s to B's stamps (uncertainty {self.offset_uncertainty:.2g} s, "
+                 f"speed correlation {self.time_offset.correlation:.4f}, speed mismatch "
+                 f"{100 * self.time_offset.mismatch:.3g} %)",
+                 "mount (B's frame in A's body frame): " + np.array2string(np.round(self.mount, 6), separator=", ")
+                 .replace("\n", ""),
+                 "mount in B's stated reading: " + ", ".join(f"{v:.9g}" for v in self.mount_numbers),
+                 f"{len(r.rotation_degrees)} pairs; rotation residual rms {r.rotation_rms:.3g}, max "
+                 f"{r.rotation_max:.3g} degrees" + ("" if r.translation is None else
+                                                   f"; translation rms {r.translation_rms:.3g}, max "
+                                                   f"{r.translation_max:.3g}"),
+                 f"motion: turned {self.motion['total_rotation_degrees']:.4g} degrees in all, rotation axes spread "
+                 f"{self.motion['axis_spread_degrees']:.3g} degrees"]
+        lines += [f"note: {n}" for n in self.notes]
+        lines.append("speeds (step 1), best first:")
+        for m in self.speed_matches:
+            lines.append(f"  {m.rank}. mismatch {100 * m.time_offset.mismatch:.3g} %, correlation "
+                         f"{m.time_offset.correlation:.4f}: {m.sentence}")
+        lines.append("one constant mount (step 2), best first:")
+        for e in self.explanations:
+            res = e.residuals
+            lines.append(f"  {e.rank}. rms {res.rotation_rms:.3g} degrees"
+                         + ("" if res.translation is None else f", {res.translation_rms:.3g} m")
+                         + f", cost {e.cost:.4g}{' (near tie)' if e.near_tie else ''}: {e.sentence}")
+            for s in e.same:
+                lines.append(f"     same mistake written another way: {s}")
+            for s, w in e.mount_only:
+                lines.append(f"     fits exactly as well with another mount: {s} ({w})")
+            for s, w in e.separable:
+                lines.append(f"     nearly as well: {s} -- {w}")
+        lines.append("fix for B's numbers (logged_numbers: B's (N, n) array):\n" + self.best.code)
+        return "\n".join(lines)
+
+    def as_dict(self) -> dict:
+        """The result as plain data (JSON-ready)."""
+        return {"verdict": self.verdict, "explained": self.explained, "sentence": self.sentence,
+                "offset_seconds": self.offset, "offset_uncertainty_seconds": self.offset_uncertainty,
+                "offset_method": OFFSET_METHOD, "time_offset": self.time_offset.as_dict(),
+                "mount": np.round(self.mount, 12).tolist(), "mount_numbers": [float(v) for v in self.mount_numbers],
+                "residuals": self.residuals.as_dict(), "stated_a": self.stated_a.as_dict(),
+                "stated_b": self.stated_b.as_dict(), "motion": dict(self.motion), "notes": list(self.notes),
+                "slip": self.slip.as_dict(), "speed_matches": [m.as_dict() for m in self.speed_matches],
+                "explanations": [e.as_dict() for e in self.explanations]}
+
+
+# --------------------------------------------------------------------------------------
+# inputs
+# --------------------------------------------------------------------------------------
+
+def _checked_times(times, name: str, n_values: int) -> np.ndarray:
+    t = as_numbers(times, name)
+    if t.ndim != 1:
+        raise StreamTimesError(f"{name}: got shape {t.shape}; expected one time stamp (seconds) per sample, "
+                               "shape (N,)")
+    if len(t) != n_values:
+        raise StreamTimesError(f"{name}: got {len(t)} time stamps for {n_values} rows of numbers; expected one "
+                               "stamp per row")
+    step = np.diff(t)
+    bad = np.flatnonzero(step <= 0)
+    if bad.size:
+        k = int(bad[0])
+        raise StreamTimesError(f"{name}: not strictly increasing at sample {k + 1}: {t[k]!r} then {t[k + 1]!r}; "
+                               "expected strictly increasing stamps in seconds (sort the log, drop repeated stamps)")
+    return t
+
+
+def _checked_stream(values, name: str, reading, kind) -> tuple[np.ndarray, Reading]:
+    arr = as_numbers(values, name)
+    if arr.ndim != 2:
+        raise WrongShapeError(f"{name}: got shape {arr.shape}; expected (N, n): one row of pose numbers per "
+                              "sample, n = 3, 4, 6, 7, 9, 12 or 16")
+    if arr.shape[0] < MIN_SAMPLES:
+        raise StreamTimesError(f"{name}: got {arr.shape[0]} samples; expected at least {MIN_SAMPLES} (a stretch "
+                               "of motion, not a few poses)")
+    wanted = COUNTS.get(kind) if isinstance(kind, str) else None
+    if wanted is not None and arr.shape[1] not in wanted and not isinstance(reading, Reading):
+        raise WrongShapeError(f"{name}: rows of {arr.shape[1]} numbers, but a {kind} has "
+                              f"{' or '.join(map(str, wanted))}; expected rows that fit the stated kind")
+    stated = stated_reading(arr.shape[1], kind, reading)
+    if stated.count != arr.shape[1]:
+        raise WrongShapeError(f"{name}: rows of {arr.shape[1]} numbers, but the reading {stated.describe()!r} "
+                              f"has {stated.count}; expected rows that fit the stated reading")
+    return arr, stated
+
+
+def _read_reference(stated: Reading, values: np.ndarray):
+    r, t = read_numbers(stated, values)
+    err = orthonormality_error(r)
+    det = det3(r)
+    bad = np.flatnonzero((err > READ_TOLERANCE) | (det <= 0) | ~np.isfinite(err))
+    if bad.size:
+        k = int(bad[0])
+        why = "a reflection (det -1)" if det[k] <= 0 else f"off orthonormal by {float(err[k]):.3g}"
+        raise ReferenceStreamError(
+            f"values_a: row {k} ({summarise(values[k])}) read as {stated.describe()} is {why}; stream A is the "
+            f"reference and must read as rotations (orthonormality error <= {READ_TOLERANCE:g}, det +1): state "
+            "A's reading, or swap the streams so the trusted one is A")
+    return r, t
+
+
+def _checked_angle(value, name: str, largest: float = math.pi) -> float:
+    v = checked_tolerance(value, name, " radians")
+    if v > largest:
+        raise AlignmentError(f"{name}: got {summarise(value)} radians ({math.degrees(v):.4g} degrees); "
+                             f"accepted: a finite number > 0 and <= {largest:.4g} radians")
+    return v
+
+
+def _nominal(value):
+    if value is None:
+        return None
+    arr = as_numbers(value, "nominal_mount")
+    if arr.shape == (4, 4):
+        arr = arr[:3, :3]
+    if arr.shape != (3, 3):
+        raise WrongShapeError(f"nominal_mount: got shape {arr.shape}; expected the expected mount as a canonical "
+                              "(3, 3) rotation or (4, 4) transform (B's frame in A's body frame)")
+    return checked_matrix(arr, "nominal_mount")
+
+
+# --------------------------------------------------------------------------------------
+# speed classes (step 1)
+# --------------------------------------------------------------------------------------
+
+def _speed_key(reading: Reading) -> Reading:
+    """A reading with the same speeds for sure: the JPL algebra and a column-major 3x3 or 4x4 give
+    the transposed matrix of the same numbers (posekit.explain.readings.read_numbers), and a
+    transposed stack has the same relative angles (:func:`relative_angles`)."""
+    settings = {}
+    if reading.rotation_kind == "quaternion":
+        settings["algebra"] = "hamilton"
+    if reading.kind == "matrix" or (reading.kind == "transform" and reading.count == 16):
+        settings["layout"] = "row-major"
+    return reading.with_fields(**settings) if settings else reading
+
+
+@dataclass
+class _Class:
+    readings: list
+    mid: np.ndarray
+    speed: np.ndarray
+    found: TimeOffset | None = None
+    pairs: dict | None = None
+    rank: int = 0
+    key: Reading | None = None
+
+
+def _speeds_of(key: Reading, times, values, stride: int, every: int = 1):
+    """Angular speeds of ``values`` read under ``key`` (action and direction as stated: the speeds do not
+    see them), at every ``every``-th sample: only the rows those speeds need are read."""
+    reading = key.with_fields(action="active", direction="parent-from-child")
+    with np.errstate(all="ignore"):
+        if every == 1:
+            r, _ = read_numbers(reading, values)
+            mid, speed = angular_speeds(times, r, stride)
+        else:
+            k = np.arange(0, len(values) - stride, every)
+            r, _ = read_numbers(reading, values[np.concatenate([k, k + stride])])
+            dt = times[k + stride] - times[k]
+            mid, speed = 0.5 * (times[k] + times[k + stride]), relative_angles(r[:len(k)], r[len(k):]) / dt
+    return mid, np.nan_to_num(speed, nan=0.0, posinf=0.0, neginf=0.0)
+
+
+def _speed_classes(stated: Reading, times_b, values_b, stride: int, every: int) -> list[_Class]:
+    by_key: dict = {}
+    classes: list[_Class] = []
+    prints: list[tuple[float, float]] = []
+    for reading in readings_of(stated):
+        key = _speed_key(reading)
+        if key in by_key:
+            by_key[key].readings.append(reading)
+            continue
+        mid, speed = _speeds_of(key, times_b, values_b, stride, every)
+        fp = (float(np.sum(speed)), float(np.sum(speed[::7])))
+        for j, (s0, s1) in enumerate(prints):   # the same speeds (an axis relabelling): one class
+            if abs(s0 - fp[0]) <= 1e-9 * (abs(s0) + 1) and abs(s1 - fp[1]) <= 1e-9 * (abs(s1) + 1) \
+                    and np.allclose(classes[j].speed, speed, rtol=1e-9, atol=1e-12):
+                classes[j].readings.append(reading)
+                by_key[key] = classes[j]
+                break
+        else:
+            c = _Class([reading], mid, speed, key=key)
+            classes.append(c)
+            prints.append(fp)
+            by_key[key] = c
+    for c in classes:
+        c.readings.sort(key=lambda r: Slip(stated, r).order_key())
+    return classes
+
+
+# --------------------------------------------------------------------------------------
+# pairs (step 2)
+# --------------------------------------------------------------------------------------
+
+def _key_samples(times_a, cum_a, q_a, t_a, times_b, offset, pair_angle, max_pairs):
+    """B rows spaced by ``pair_angle`` of A's turning (on A's clock), and A's pose at each (slerp, Shoemake 1985)."""
+    s = times_b + offset
+    inside = np.flatnonzero((s >= times_a[0]) & (s <= times_a[-1]))
+    if len(inside) < 3:
+        return None
+    level = np.floor((np.interp(s[inside], times_a, cum_a) - np.interp(s[inside[0]], times_a, cum_a)) / pair_angle)
+    rows = inside[np.concatenate([[True], np.diff(level) > 0])]
+    if len(rows) > max_pairs + 1:
+        rows = rows[np.unique(np.round(np.linspace(0, len(rows) - 1, max_pairs + 1)).astype(int))]
+    if len(rows) < 3:       # A turned less than two pair angles: key samples evenly in time (the motion check judges)
+        rows = inside[np.unique(np.round(np.linspace(0, len(inside) - 1, min(len(inside), 11))).astype(int))]
+    sr = s[rows]
+    j = np.clip(np.searchsorted(times_a, sr, side="right") - 1, 0, len(times_a) - 2)
+    u = (sr - times_a[j]) / (times_a[j + 1] - times_a[j])
+    ra = rot.matrix_of_quaternion(rot.slerp_quaternions(q_a[j], q_a[j + 1], u))
+    ta = None if t_a is None else t_a[j] + u[:, None] * (t_a[j + 1] - t_a[j])
+    a_rel, ta_rel = _relative(ra, ta)
+    return {"rows": rows, "times": sr, "ra": ra, "ta": ta, "a_rel": a_rel, "ta_rel": ta_rel, "alpha": _log(a_rel)}
+
+
+def _relative(r, t):
+    rel = np.swapaxes(r[:-1], -1, -2) @ r[1:]
+    trel = None if t is None else np.einsum("nba,nb->na", r[:-1], t[1:] - t[:-1])
+    return rel, trel
+
+
+def _motion_of(alpha):
+    """Total turning and axis spread of the pairs' rotation vectors ``(P, 3)``.
+
+    Spread: with ``s1 >= s2`` the singular values of the stacked vectors, ``2 atan(s2 / s1)``
+    (derived here: two equal turns ``w`` about unit axes ``u``, ``v`` with ``u . v = cos(phi)`` give
+    the Gram matrix ``w^2 (u u^T + v v^T)`` with eigenvalues ``w^2 (1 +- cos(phi))``, so
+    ``s2 / s1 = tan(phi / 2)`` and the spread is ``phi``, the angle between the axes).
+    """
+    total = float(np.sum(np.linalg.norm(alpha, axis=1)))
+    _, s, vt = np.linalg.svd(alpha, full_matrices=False)
+    spread = 2.0 * math.atan2(float(s[1]) if len(s) > 1 else 0.0, float(s[0])) if s[0] > 0 else 0.0
+    return total, spread, vt
+
+
+_AXIS_NAMES = ("x", "y", "z")
+
+
+def _axis_words(v) -> str:
+    v = np.asarray(v, dtype=float)
+    k = int(np.argmax(np.abs(v)))
+    if abs(abs(v[k]) - 1.0) < 1e-6:
+        return f"A's body {_AXIS_NAMES[k]} axis"
+    return "the axis (" + ", ".join(f"{x:.2f}" for x in v) + ") in A's body frame"
+
+
+def _check_motion(alpha, min_rotation, min_axis_spread):
+    total, spread, vt = _motion_of(alpha)
+    if total < min_rotation:
+        raise DegenerateMotionError(
+            f"stream A turned only {math.degrees(total):.3g} degrees in all over the overlap ({len(alpha)} pairs); "
+            f"the mount needs at least {math.degrees(min_rotation):.3g} degrees: turn the rig by more, about two "
+            "axes at least "
+            f"{math.degrees(min_axis_spread):.3g} degrees apart")
+    if spread < min_axis_spread:
+        u = vt[0] / np.linalg.norm(vt[0])
+        away = np.degrees(np.arccos(np.clip(np.abs(u), 0.0, 1.0)))            # each body axis from the line
+        k = int(np.argmax(away))
+        raise DegenerateMotionError(
+            f"stream A's rotation axes all lie within {math.degrees(spread):.3g} degrees of one line, about "
+            f"{_axis_words(u)} ({math.degrees(total):.4g} degrees turned): a turn about that line cannot fix the "
+            "mount's rotation about it; turn about a second axis, at least "
+            f"{math.degrees(min_axis_spread):.3g} degrees away from the first, by a similar amount (for example "
+            f"about A's body {_AXIS_NAMES[k]} axis, {away[k]:.3g} degrees from it)")
+    return total, spread, vt
+
+
+# --------------------------------------------------------------------------------------
+# candidates (step 3)
+# --------------------------------------------------------------------------------------
+
+def _relations(stated: Reading):
+    """(action, direction, transposed) of the engine's relations: as stated; the rotation transposed (the
+    action field of angles and quaternions, the block alone of a matrix); the direction flipped; both."""
+    c = stated.convention
+    flip_dir = "child-from-parent" if c.direction == "parent-from-child" else "parent-from-child"
+    if stated.parameterised:
+        flip_act = "passive" if c.action == "active" else "active"
+        return [(c.action, c.direction, False), (flip_act, c.direction, False), (c.action, flip_dir, False),
+                (flip_act, flip_dir, False)]
+    return [(c.action, c.direction, False), (c.action, c.direction, True), (c.action, flip_dir, False),
+            (c.action, flip_dir, True)]
+
+
+@dataclass
+class _Fit:
+    slip: Slip
+    cls: _Class
+    rot_b: np.ndarray            # decoded B rotations at the key rows (P + 1, 3, 3), as written (no remap)
+    mount_written: np.ndarray     # X for B's frame as written
+    mount: np.ndarray             # X for B's corrected frame (remap undone)
+    translation: np.ndarray | None
+    rres: np.ndarray
+    tres: np.ndarray | None
+    cost: float
+    nominal_angle: float | None
+
+
+def _fits(stated_b, classes, values_b, compare_t, tol_r, tol_t, nominal, tol_n):
+    out: list[_Fit] = []
+    variants = [(s, f) for s in (1.0, 1e-3, 1e3) for f in ("parent", "child-axes", "inverse-translation")] \
+        if compare_t else [(1.0, "parent")]
+    proper = np.asarray(PROPER_REMAPS)
+    remap_prior = PRIOR_WEIGHT * remap_cost(np.arange(24))
+    for cls in classes:
+        p = cls.pairs
+        if p is None:
+            continue
+        rows = p["rows"]
+        nums = values_b[rows]
+        a_rel, alpha = p["a_rel"], p["alpha"]
+        for reading in cls.readings:
+            for action, direction, transposed in _relations(stated_b):
+                true = reading.with_fields(action=action, direction=direction)
+                read = read_numbers(true, nums)
+                base = Slip(stated_b, true, transposed)
+                r_b, _ = base.decode(nums, read=read)
+                with np.errstate(all="ignore"):
+                    b_rel, _ = _relative(r_b, None)
+                    beta = _log(b_rel)
+                    if not np.all(np.isfinite(beta)):
+                        continue
+                    x = park_martin_rotation(alpha, beta)
+                    rres = angles_between(a_rel @ x, x @ b_rel)
+                if not np.all(np.isfinite(rres)):
+                    continue
+                rot_fit = 0.5 * float(np.sum((rres / tol_r) ** 2))
+                # the remap of B's own frame that best explains the nominal mount (proper ones only)
+                q_i, n_ang, n_cost = 0, None, 0.0
+                if nominal is not None:
+                    ang = angles_between(np.broadcast_to(nominal, proper.shape), x @ np.swapaxes(proper, -1, -2))
+                    c_q = 0.5 * (ang / tol_n) ** 2 + remap_prior
+                    q_i = int(np.argmin(c_q))
+                    n_ang, n_cost = float(ang[q_i]), 0.5 * float(ang[q_i] / tol_n) ** 2
+                mount = x @ proper[q_i].T
+                # a rotation already 10 tolerances off rms: its length unit and translation frame cannot rescue it
+                tried = variants if math.sqrt(float(np.mean(rres ** 2))) <= 10.0 * tol_r else variants[:1]
+                if compare_t:
+                    decoded = [Slip(stated_b, true, transposed, 0, 0, s, f).decode(nums, read=read)[1]
+                               for s, f in tried]
+                    tb_rel = np.stack([np.einsum("nba,nb->na", r_b[:-1], t[1:] - t[:-1]) for t in decoded])
+                    with np.errstate(all="ignore"):
+                        tx, _ = mount_translation(a_rel, p["ta_rel"], x, tb_rel)            # (V, 3)
+                        err = (np.einsum("nab,vb->vna", a_rel - np.eye(3), tx)
+                               - (np.einsum("ab,vnb->vna", x, tb_rel) - p["ta_rel"]))
+                    tres_all = np.linalg.norm(err, axis=-1)                                # (V, P)
+                else:
+                    tx, tres_all = [None], [None]
+                for v, (scale, frame) in enumerate(tried):
+                    tres = tres_all[v]
+                    if tres is not None and not np.all(np.isfinite(tres)):
+                        continue
+                    slip = Slip(stated_b, true, transposed, 0, int(q_i), scale, frame)
+                    cost = rot_fit + n_cost + PRIOR_WEIGHT * slip.deviations()
+                    if tres is not None:
+                        cost += 0.5 * float(np.sum((tres / tol_t) ** 2))
+                    out.append(_Fit(slip, cls, r_b, x, mount, None if tres is None else tx[v], rres, tres, cost,
+                                    n_ang))
+    out.sort(key=lambda f: (f.cost, f.slip.order_key()))
+    return out
+
+
+def _encode(slip: Slip, r, t):
+    """Numbers of a true pose under ``slip``: the forward model of posekit.explain.slips
+    (the translation frame, the length scale, the remaps ``P R Q``, the transposed block,
+    then the true reading's checked writer).  :meth:`Slip.decode` undoes it."""
+    r = np.asarray(r, dtype=np.float64)
+    if t is not None and slip.true.has_translation:
+        t = np.asarray(t, dtype=np.float64)
+        if slip.translation_frame == "child-axes":
+            t = np.einsum("...ba,...b->...a", r, t)
+        elif slip.translation_frame == "inverse-translation":
+            t = -np.einsum("...ba,...b->...a", r, t)
+        t = t / slip.length_scale
+        t = np.einsum("ab,...b->...a", REMAPS[slip.parent_remap], t)
+    else:
+        t = None
+    r = REMAPS[slip.parent_remap] @ r @ REMAPS[slip.child_remap]
+    if slip.transposed:
+        r = np.swapaxes(r, -1, -2)
+    return write_numbers(slip.true, r, t)
+
+
+_PROBE_SEED = 20240611
+
+
+def _probe(stated: Reading) -> np.ndarray:
+    """Three fixed random poses written under the stated reading: inputs on which slips that differ, differ."""
+    rng = np.random.default_rng(_PROBE_SEED)
+    q = rng.normal(size=(3, 4))
+    r = rot.matrix_of_quaternion(q / np.linalg.norm(q, axis=1, keepdims=True))
+    return write_numbers(stated, r, rng.normal(size=(3, 3)) if stated.has_translation else None)
+
+
+def _separating_motion(lead: _Fit, rival: _Fit, values_b, vt, tol_r) -> str:
+    """Which extra turn of the rig (from the last key sample) would tell ``rival`` from ``lead``."""
+    row = int(lead.cls.pairs["rows"][-1])
+    nums = values_b[row]
+    r_last, t_last = lead.slip.decode(nums)
+    axes = [np.eye(3)[k] for k in range(3)] + [vt[k] / np.linalg.norm(vt[k]) for k in range(1, min(3, len(vt)))]
+    best = (-1.0, None)
+    for d in axes:
+        turn = rot.matrix_of_quaternion(rot.quaternion_of_rotvec(PROBE_TURN * d))
+        b_true = lead.mount.T @ turn @ lead.mount
+        try:
+            new = _encode(lead.slip, r_last @ b_true, t_last)
+        except PoseInputError:
+            continue
+        with np.errstate(all="ignore"):
+            r0, _ = rival.slip.decode(nums)
+            r1, _ = rival.slip.decode(new)
+            res = float(angles_between(turn @ rival.mount, rival.mount @ (r0.T @ r1)))
+        if np.isfinite(res) and res > best[0]:
+            best = (res, d)
+    if best[1] is None or best[0] <= 3.0 * tol_r:
+        return ("no single extra turn from the last key pose separates them; record a longer motion about "
+                "other axes")
+    return (f"a {math.degrees(PROBE_TURN):.0f}-degree turn about {_axis_words(best[1])} would separate them "
+            f"(this reading would then leave {math.degrees(best[0]):.3g} degrees)")
+
+
+def _mount_words(lead: _Fit, other: _Fit) -> str:
+    q = lead.mount.T @ other.mount
+    ang = angles_between(np.broadcast_to(q, PROPER_REMAPS.shape), np.asarray(PROPER_REMAPS))
+    j = int(np.argmin(ang))
+    turn = math.degrees(float(angles_between(lead.mount, other.mount)))
+    if ang[j] < 1e-6:
+        return (f"its mount is {turn:.3g} degrees from this one: this mount followed by "
+                f"{describe_remap(np.asarray(PROPER_REMAPS[j]))}")
+    return f"mount {turn:.3g} degrees from this one"
+
+
+def _same_everywhere(a: _Fit, b: _Fit, probe) -> bool:
+    if np.max(np.abs(a.rot_b - b.rot_b)) > EQUIVALENT or a.slip.child_remap != b.slip.child_remap:
+        return False
+    ra, ta = a.slip.decode(probe)
+    rb, tb = b.slip.decode(probe)
+    if np.max(np.abs(ra - rb)) > EQUIVALENT:
+        return False
+    return ta is None or tb is None or np.max(np.abs(ta - tb)) <= EQUIVALENT
+
+
+def _fits_within(f: _Fit, tol_r, tol_t) -> bool:
+    ok = math.sqrt(float(np.mean(f.rres ** 2))) <= tol_r
+    return ok and (f.tres is None or math.sqrt(float(np.mean(f.tres ** 2))) <= tol_t)
+
+
+def _groups(fits: list[_Fit], limit: int):
+    """Greedy groups of fits with the same residuals on every pair (and the same nominal angle)."""
+    groups: list[list[_Fit]] = []
+    for f in fits:
+        for g in groups:
+            lead = g[0]
+            if len(f.rres) == len(lead.rres) and np.max(np.abs(f.rres - lead.rres)) <= EQUIVALENT \
+                    and (f.tres is None or np.max(np.abs(f.tres - lead.tres)) <= EQUIVALENT) \
+                    and (f.nominal_angle is None or abs(f.nominal_angle - lead.nominal_angle) <= EQUIVALENT):
+                g.append(f)
+                break
+        else:
+            if len(groups) >= 4 * limit:
+                continue
+            groups.append([f])
+    return groups
+
+
+# --------------------------------------------------------------------------------------
+# the public function
+# --------------------------------------------------------------------------------------
+
+def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *, kind_a: str | None = None,
+                  kind_b: str | None = None, nominal_mount=None, nominal_tolerance: float = math.radians(5.0),
+                  max_offset: float | None = None, min_overlap: float = 0.5,
+                  pair_angle: float = DEFAULT_PAIR_ANGLE, max_pairs: int = 400,
+                  min_rotation: float = math.radians(30.0), min_axis_spread: float = math.radians(15.0),
+                  rotation_tolerance: float = math.radians(0.5), translation_tolerance: float = 0.005,
+                  limit: int = 5) -> StreamAlignment:
+    """Time offset, rigid mount and the convention slip of stream B against reference stream A.
+
+    ``times_a (Na,)``, ``times_b (Nb,)``: strictly increasing seconds, each on its own clock.
+    ``values_a (Na, n_a)``, ``values_b (Nb, n_b)``: one row of pose numbers per sample (n = 3,
+    4, 6, 7, 9, 12 or 16), read under ``reading_a`` / ``reading_b`` (convention text such as
+    ``"scalar=last"``, a :class:`~posekit.Convention`, a :class:`~posekit.explain.Reading`, or
+    None; ``kind_a`` / ``kind_b`` name the kind when the count alone does not).  Stream A is
+    the reference (read as stated); the slip is sought in B.  Each row is the sensor's frame in
+    its own world frame (``p_world = R p_sensor``, as read); the two world frames may differ.
+
+    Steps (see the module docstring): the offset from the angular speeds of every reading of B
+    (:attr:`StreamAlignment.speed_matches`), key samples ``pair_angle`` radians of A's turning
+    apart (at most ``max_pairs`` pairs), the mount of every reading and relation by Park &
+    Martin 1994, and the ranking.  Positions are compared when both streams carry them (then B's
+    length unit, mm or m, and translation frame are tried too).  ``nominal_mount`` (canonical
+    ``(3, 3)`` or ``(4, 4)``, B's frame in A's body frame, e.g. from the drawing): the found mount
+    is compared with it (``nominal_tolerance`` radians) and a mount that is the nominal one times
+    an axis permutation is named as a remap of B's axes.  ``max_offset`` (seconds) bounds
+    ``|offset|``; lags whose overlap is below ``min_overlap`` of the shorter stream are skipped.
+
+    Raises :class:`DegenerateMotionError` when A turned less than ``min_rotation`` radians over
+    the pairs or about one axis only (spread below ``min_axis_spread``), saying which motion
+    to add; :class:`NoOverlapError`, :class:`StreamTimesError`, :class:`ReferenceStreamError`
+    and posekit's input errors for unusable inputs.
+
+    >>> from scipy.spatial.transform import Rotation, RotationSpline
+    >>> keys = np.linspace(0, 40, 9)
+    >>> spline = RotationSpline(keys, Rotation.random(9, random_state=3))   # ground truth (scipy)
+    >>> mount = Rotation.from_euler("ZYX", [90, 0, -90], degrees=True)     # B's frame in A's body frame
+    >>> ta = np.arange(0, 40, 0.01)
+    >>> tb = np.arange(1, 39, 0.03)                                          # B's clock: 0.25 s behind
+    >>> qa = spline(ta).as_quat(scalar_first=True)                           # A: scalar-first, as stated
+    >>> qb = (spline(tb + 0.25) * mount).as_quat()                           # B: logged scalar-last ...
+    >>> drawing = Rotation.from_euler("ZYX", [88, 1, -91], degrees=True).as_matrix()  # the mount, roughly
+    >>> out = align_streams(ta, qa, "scalar=first", tb, qb, "scalar=first",  # ... but said scalar-first
+    ...                     nominal_mount=drawing)
+    >>> round(out.offset, 2), out.sentence
+    (0.25, 'The quaternion was written scalar-last but read scalar-first (stated).')
+    >>> round(float(np.degrees(angles_between(out.mount, mount.as_matrix()))), 2)
+    0.0
+
+    Without ``nominal_mount`` the same data name the transposed reading first and list the
+    scalar order under ``mount_only``: reordering a quaternion's four numbers gives the
+    rotation or its transpose turned by constant rotations on both sides (the four numbers
+    move by an orthogonal map, a pair of quaternion products, with or without conjugation),
+    which relative motions cannot see and the mount absorbs.
+    """
+    tol_r = checked_tolerance(rotation_tolerance, "rotation_tolerance", " radians")
+    tol_t = checked_tolerance(translation_tolerance, "translation_tolerance", " (length units)")
+    tol_n = checked_tolerance(nominal_tolerance, "nominal_tolerance", " radians")
+    pair_angle = _checked_angle(pair_angle, "pair_angle", math.radians(90.0))
+    min_rot = checked_tolerance(min_rotation, "min_rotation", " radians")
+    min_spread = _checked_angle(min_axis_spread, "min_axis_spread", math.radians(90.0))
+    max_pairs = checked_count(max_pairs, "max_pairs", " (pairs of key samples)")
+    limit = checked_count(limit, "limit", " (explanations to list)")
+    min_overlap = checked_tolerance(min_overlap, "min_overlap", " (a fraction of the shorter stream)")
+    if min_overlap > 1:
+        raise AlignmentError(f"min_overlap: got {min_overlap:g}; accepted a fraction > 0 and <= 1 of the shorter "
+                             "stream")
+    if max_offset is not None:
+        max_offset = checked_tolerance(max_offset, "max_offset", " seconds")
+    nominal = _nominal(nominal_mount)
+
+    va, stated_a = _checked_stream(values_a, "values_a", reading_a, kind_a)
+    vb, stated_b = _checked_stream(values_b, "values_b", reading_b, kind_b)
+    ta = _checked_times(times_a, "times_a", len(va))
+    tb = _checked_times(times_b, "times_b", len(vb))
+    r_a, t_a = _read_reference(stated_a, va)
+    notes: list[str] = []
+
+    # --- step 1: speeds, one grid, the offset of every reading of B ------------------------------
+    dt_a, dt_b = float(np.median(np.diff(ta))), float(np.median(np.diff(tb)))
+    window = max(dt_a, dt_b)
+    stride_a, stride_b = max(1, int(round(window / dt_a))), max(1, int(round(window / dt_b)))
+    mid_a, speed_a = angular_speeds(ta, r_a, stride_a)
+    if np.std(speed_a) <= 1e-6 * (np.mean(speed_a) + 1e-12) or np.max(speed_a) <= 0:
+        raise DegenerateMotionError(
+            f"stream A's angular speed hardly varies (mean {math.degrees(float(np.mean(speed_a))):.4g} deg/s, "
+            f"spread {math.degrees(float(np.std(speed_a))):.3g} deg/s): the clock offset cannot be found from "
+            "it; record a motion that speeds up and slows down (start and stop)")
+    h = min(dt_a, dt_b)
+    span_a = float(mid_a[-1] - mid_a[0])
+    span_b = float(tb[-1] - tb[0])
+    longest = max(span_a, span_b)
+    if longest / h > FINE_SAMPLES:
+        h = longest / FINE_SAMPLES
+    a_fine = _grid_of(mid_a, speed_a, float(mid_a[0]), h, span_a)
+    block = max(1, int(math.ceil(max(len(a_fine), span_b / h + 1) / COARSE_SAMPLES)))
+    grid = _Grid(a_fine, float(mid_a[0]), h, block, _block_mean(a_fine, block) if block > 1 else a_fine, window,
+                 max_offset, min_overlap)
+
+    # ranking on the coarse grid needs about one speed per coarse cell: read only the rows those need
+    every = max(1, int(block * h / dt_b))
+    classes = _speed_classes(stated_b, tb, vb, stride_b, every)
+    coarse = []
+    for c in classes:
+        coarse.append(_estimate_offset(grid, c.mid, c.speed, refine=False))
+    order = sorted(range(len(classes)), key=lambda i: (np.nan_to_num(coarse[i].mismatch, nan=np.inf),
+                                                       Slip(stated_b, classes[i].readings[0]).order_key()))
+    best_m = np.nan_to_num(coarse[order[0]].mismatch, nan=np.inf)
+    for rank, i in enumerate(order, start=1):
+        c = classes[i]
+        c.rank = rank
+        near = np.nan_to_num(coarse[i].mismatch, nan=np.inf) <= max(3.0 * best_m, best_m + 0.1)
+        if rank <= REFINED_CLASSES or near:
+            if every > 1:
+                c.mid, c.speed = _speeds_of(c.key, tb, vb, stride_b)
+            c.found = _estimate_offset(grid, c.mid, c.speed, refine=True)
+        else:
+            c.found = coarse[i]
+    ranked = [classes[i] for i in order]
+    speed_matches = tuple(
+        SpeedMatch(c.rank, c.readings[0], tuple(c.readings), c.found, Slip(stated_b, c.readings[0]),
+                   _reading_sentence(Slip(stated_b, c.readings[0])))
+        for c in ranked[:limit])
+    if ranked[0].found.mismatch > 0.25:
+        notes.append(f"no reading of B has angular speeds like A's (best mismatch {100 * ranked[0].found.mismatch:.3g}"
+                     " %): check A's reading, the time stamps' unit, or whether both sensors are on one body")
+    if ranked[0].found.ambiguous:
+        notes.append(f"the speed correlation has a second peak ({ranked[0].found.second_peak:.4f} against "
+                     f"{ranked[0].found.correlation:.4f}): a periodic motion leaves the offset ambiguous")
+
+    # --- step 2: key samples on A's clock for every class; A's motion must fix the mount --------
+    q_a = rot.quaternion_of_matrix(r_a)
+    step_ang = relative_angles(r_a[:-1], r_a[1:])
+    cum_a = np.concatenate([[0.0], np.cumsum(step_ang)])
+    for c in ranked:
+        c.pairs = _key_samples(ta, cum_a, q_a, t_a, tb, c.found.offset, pair_angle, max_pairs)
+    lead_pairs = ranked[0].pairs
+    if lead_pairs is None:
+        raise NoOverlapError(f"stream B, shifted by the offset found ({ranked[0].found.offset:+.6g} s), has fewer "
+                             "than 3 samples inside stream A's time span; accepted: streams that record the same "
+                             "motion over a common stretch of time")
+    total, spread, vt = _check_motion(lead_pairs["alpha"], min_rot, min_spread)
+    compare_t = t_a is not None and stated_b.has_translation
+    if t_a is not None and not stated_b.has_translation:
+        notes.append("stream B carries no positions: the mount's rotation only")
+    elif stated_b.has_translation and t_a is None:
+        notes.append("stream A carries no positions: the mount's rotation only (B's positions are not used)")
+    if nominal is None:
+        notes.append("an axis remap of B's own frame looks like a different mount to relative motions: pass "
+                     "nominal_mount (the mount you expect) to test for one")
+
+    # --- step 3: one constant mount per reading, relation and unit; rank; group ---------------
+    fits = _fits(stated_b, ranked, vb, compare_t, tol_r, tol_t, nominal, tol_n)
+    if not fits:
+        raise DegenerateMotionError("no reading of stream B gives usable relative motions over the key samples; "
+                                    "accepted: B numbers that read as rotations under some reading")
+    groups = _groups(fits, limit)
+    probe = _probe(stated_b)
+    explanations: list[MountExplanation] = []
+    lead_fit = groups[0][0]
+    for rank, g in enumerate(groups[:limit], start=1):
+        lead = g[0]
+        same, mount_only, separable = [], [], []
+        lead_sentence = _sentence(lead.slip)
+        for other in g[1:]:
+            if other.slip.deviations() > lead.slip.deviations() + 1.0:
+                continue            # claims more than one more mistake than the lead: says more than the data show
+            s = _sentence(other.slip)
+            if _same_everywhere(lead, other, probe):
+                if s != lead_sentence and s not in same:
+                    same.append(s)
+            elif float(angles_between(lead.mount, other.mount)) > 1e-6:
+                if len(mount_only) < MEMBERS_SHOWN and all(s != m for m, _ in mount_only):
+                    mount_only.append((s, _mount_words(lead, other)))
+            elif len(separable) < MEMBERS_SHOWN and all(s != m for m, _ in separable):
+                separable.append((s, _separating_motion(lead, other, vb, vt, tol_r)))
+        near = False
+        if rank == 1:
+            near = bool(mount_only or separable)
+            if len(groups) > 1:
+                runner = groups[1][0]
+                if _fits_within(runner, tol_r, tol_t) or runner.cost - lead.cost < PRIOR_WEIGHT:
+                    near = True
+        else:
+            near = _fits_within(lead, tol_r, tol_t) or lead.cost - lead_fit.cost < PRIOR_WEIGHT
+            if near and lead.slip != lead_fit.slip:
+                separable.insert(0, ("this reading, against the first explanation",
+                                     _separating_motion(lead_fit, lead, vb, vt, tol_r)))
+        explanations.append(_explanation(rank, lead, stated_b, lead.cls.pairs, tuple(same), tuple(mount_only),
+                                         tuple(separable), near))
+    best = explanations[0]
+    if best.mount_only and nominal is None:
+        notes.append(f"{len(best.mount_only)} other reading(s) fit these data exactly as well with another mount "
+                     "(listed under the first explanation): no motion separates them, only the mount does -- "
+                     "compare the mounts with the drawing, or pass nominal_mount")
+    if len(explanations) > 1 and explanations[1].near_tie and not best.near_tie:
+        explanations[0] = _replace_near(best)
+        best = explanations[0]
+    explained = best.residuals.rotation_rms <= math.degrees(tol_r) and (
+        best.residuals.translation is None or best.residuals.translation_rms <= tol_t)
+    if not explained:
+        tr = "" if best.residuals.translation is None else f" and {best.residuals.translation_rms:.3g} m"
+        verdict = (f"No reading of B fits one constant mount: the closest ({best.sentence[:-1].lower()}) still "
+                   f"leaves {best.residuals.rotation_rms:.3g} degrees{tr} rms (tolerances "
+                   f"{math.degrees(tol_r):.3g} degrees, {tol_t:g}); check the streams' clocks and that both "
+                   "sensors are on one rigid body")
+    else:
+        verdict = best.sentence
+    if lead_fit.cls.rank != 1:
+        notes.append(f"the diagnosed reading's speeds rank {lead_fit.cls.rank} in step 1: the mount fit outvoted the "
+                     "speed match")
+    motion = {"total_rotation_degrees": math.degrees(total), "axis_spread_degrees": math.degrees(spread),
+              "dominant_axis": [float(v) for v in vt[0]], "pairs": int(len(lead_fit.rres))}
+    return StreamAlignment(best.time_offset.offset, best.time_offset.uncertainty, best.time_offset, best.mount,
+                           best.mount_numbers, best.residuals, tuple(explanations), speed_matches, best.slip,
+                           best.sentence, verdict, bool(explained), stated_a, stated_b, motion, tuple(notes))
+
+
+def _reading_sentence(slip: Slip) -> str:
+    if slip.is_none:
+        return "B's numbers read as stated."
+    return sentence(slip)
+
+
+def _sentence(slip: Slip) -> str:
+    if slip.is_none:
+        return "B's numbers, read as stated, fit one constant mount: no convention error found."
+    return sentence(slip)
+
+
+def _mount_numbers(stated: Reading, rotation, translation) -> tuple[float, ...]:
+    """The mount written in B's stated reading (its rotation kind alone when there is no translation)."""
+    reading = stated
+    if translation is None and stated.has_translation:
+        kind = stated.rotation_kind
+        reading = Reading(kind, stated.convention, stated.stated, stated.position_first)
+    nums = write_numbers(reading, rotation, translation if reading.has_translation else None)
+    return tuple(float(v) + 0.0 for v in np.ravel(nums))
+
+
+def _explanation(rank, fit: _Fit, stated_b, pairs, same, mount_only, separable, near) -> MountExplanation:
+    times = np.stack([pairs["times"][:-1], pairs["times"][1:]], axis=1)
+    res = PairResiduals(times, np.degrees(fit.rres), fit.tres)
+    return MountExplanation(
+        rank, fit.slip, _sentence(fit.slip), fix_code(fit.slip, batch=True), fit.mount.copy(),
+        None if fit.translation is None else np.asarray(fit.translation, dtype=float).copy(),
+        _mount_numbers(stated_b, fit.mount, fit.translation), res, fit.cls.found, float(fit.cost),
+        float(fit.slip.deviations()), fit.cls.rank, same, mount_only, separable, bool(near),
+        None if fit.nominal_angle is None else math.degrees(fit.nominal_angle))
+
+
+def _replace_near(e: MountExplanation) -> MountExplanation:
+    from dataclasses import replace
+    return replace(e, near_tie=True)

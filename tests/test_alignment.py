@@ -1,0 +1,454 @@
+"""Two sensors on one rigid body (posekit.analysis.alignment) against scipy ground truth.
+
+Every stream is generated here: the body's orientation from scipy.spatial.transform.RotationSpline
+through random key orientations (scipy Rotation.random), its position from
+scipy.interpolate.CubicSpline through random key positions, a known mount X (scipy Rotation.random),
+a known world frame for B, a known clock offset, and B's numbers written *by scipy* under the true
+convention (scipy's ``as_quat`` / ``as_euler`` / ``as_rotvec`` / ``as_matrix``; upper-case sequence
+letters are intrinsic in scipy), then read by posekit under the slipped, stated one.  The checks:
+the offset within one sample period, the mount within 0.1 degree, the diagnosed slip decoding B's
+numbers to scipy's true orientations, its sentence naming the injected slip, over a generated
+grid of slips x seeds.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pytest
+from scipy.interpolate import CubicSpline
+from scipy.spatial.transform import Rotation, RotationSpline
+
+from posekit.analysis.alignment import (DegenerateMotionError, NoOverlapError, ReferenceStreamError,
+                                        StreamAlignment, StreamTimesError, _encode, align_streams, park_martin_rotation,
+                                        relative_angles, solve_mount)
+from posekit.core.errors import PoseInputError, WrongShapeError
+from posekit.explain import NAMED_REMAPS, REMAPS, Slip, read_numbers, stated_reading
+
+A_RATE = 100.0      # stream A: samples per second
+B_RATE = 30.0       # stream B: samples per second
+DURATION = 40.0     # seconds of motion
+OPTICAL = NAMED_REMAPS["FLU body -> optical (x right, y down, z forward)"]
+
+
+# --------------------------------------------------------------------------------------
+# ground truth (scipy) and the writers of B's numbers (scipy)
+# --------------------------------------------------------------------------------------
+
+def _truth(seed, *, single_axis=None, amplitude=None, n_keys=9, constant_rate=None):
+    """A smooth motion through random key orientations and positions (scipy), a mount, B's world, an offset."""
+    rng = np.random.default_rng(seed)
+    key_t = np.linspace(0.0, DURATION, n_keys)
+    if constant_rate is not None:
+        r0 = Rotation.random(random_state=seed)
+        spline = (lambda t: r0 * Rotation.from_rotvec(np.outer(constant_rate * np.asarray(t), single_axis)))
+    else:
+        if single_axis is not None:
+            steps = rng.uniform(0.6, 1.6, n_keys) * rng.choice([-1.0, 1.0], n_keys)
+            key_r = Rotation.random(random_state=seed) * Rotation.from_rotvec(np.outer(np.cumsum(steps),
+                                                                                       single_axis))
+        elif amplitude is not None:
+            key_r = Rotation.from_rotvec(rng.normal(size=(n_keys, 3)) * amplitude)
+        else:
+            key_r = Rotation.random(n_keys, random_state=seed)
+        spline = RotationSpline(key_t, key_r)          # scipy: smooth orientation through the keys
+    pos = CubicSpline(key_t, rng.normal(size=(n_keys, 3)))  # scipy: smooth position through the keys
+    return {"spline": spline, "pos": pos, "mount": Rotation.random(random_state=seed + 1000),
+            "mount_t": rng.normal(size=3) * 0.2, "world": Rotation.random(random_state=seed + 2000),
+            "world_t": rng.normal(size=3), "offset": float(rng.uniform(-1.5, 1.5))}
+
+
+def _streams(truth, *, b_rate=B_RATE, a_rate=A_RATE):
+    """A sampled on its clock; B sampled at true times tau and stamped tau - offset on its own clock.
+
+    B's pose is T_W T_A(tau) T_X (scipy Rotation products and apply)."""
+    ta = np.arange(0.0, DURATION, 1.0 / a_rate)
+    tau = np.arange(2.0, DURATION - 2.0, 1.0 / b_rate)
+    ra = truth["spline"](ta)
+    pa = truth["pos"](ta)
+    rb = truth["world"] * truth["spline"](tau) * truth["mount"]
+    pb = truth["world"].apply(truth["spline"](tau).apply(truth["mount_t"]) + truth["pos"](tau)) + truth["world_t"]
+    return ta, ra, pa, tau - truth["offset"], rb, pb
+
+
+def _matrix4(r: Rotation, p):
+    m = np.tile(np.eye(4), (len(p), 1, 1))
+    m[:, :3, :3] = r.as_matrix()
+    m[:, :3, 3] = p
+    return m
+
+
+# Rotation streams: (stated text for B, writer of B's numbers (scipy), the words the diagnosis must use,
+# whether the slip changes B's angular speeds, whether only a nominal mount can name it).
+ROTATION_SLIPS = {
+    "none": ("scalar=first", lambda r: r.as_quat(scalar_first=True), "no convention error", False, False),
+    "scalar-last read scalar-first": ("scalar=first", lambda r: r.as_quat(),
+                                      "written scalar-last but read scalar-first", False, True),
+    # Trawny & Roumeliotis 2005: the JPL quaternion of R has the Hamilton quaternion numbers of R^T
+    "JPL read as Hamilton": ("scalar=last", lambda r: r.inv().as_quat(), "JPL (ij = -k) algebra", False, False),
+    "degrees read as radians": ("sequence=z-y-x", lambda r: r.as_euler("ZYX", degrees=True),
+                                "written in degrees but read as radians", True, False),
+    "radians read as degrees": ("sequence=z-y-x unit=degrees", lambda r: r.as_euler("ZYX"),
+                                "written in radians but read as degrees", True, False),
+    "x-y-z read as z-y-x": ("sequence=z-y-x", lambda r: r.as_euler("XYZ"), "sequence is x-y-z but was read as z-y-x",
+                            True, True),
+    "extrinsic read as intrinsic": ("sequence=z-y-x axes=intrinsic", lambda r: r.as_euler("zyx"),
+                                    "extrinsic (about the fixed axes) but were read as intrinsic", True, False),
+    # Diebel 2006: the passive matrix of the same angles is the transpose of the active one
+    "passive read as active": ("sequence=z-y-x", lambda r: r.inv().as_euler("ZYX"), "build the passive matrix",
+                               False, False),
+    "rotation vector read as Euler angles": ("", lambda r: r.as_rotvec(),
+                                             "are a rotation vector but were read as Euler", True, False),
+    "column-major read row-major": ("", lambda r: r.as_matrix().transpose(0, 2, 1).reshape(-1, 9),
+                                    "written column by column", False, False),
+    "B's axes remapped (optical)": ("scalar=first", lambda r: (r * Rotation.from_matrix(OPTICAL)).as_quat(
+        scalar_first=True), "child frame's axes are remapped: optical", False, True),
+}
+
+# Pose streams (A: position + scalar-first quaternion; B: 4x4 transforms, 16 numbers).
+POSE_SLIPS = {
+    "none": ("", lambda m: m.reshape(-1, 16), "no convention error"),
+    "inverse transforms": ("direction=parent-from-child", lambda m: np.linalg.inv(m).reshape(-1, 16),
+                           "child-from-parent (the inverse transform)"),
+    "millimetres read as metres": ("", lambda m: _millimetres(m), "written in millimetres but read as metres"),
+    "column-major read row-major": ("layout=row-major", lambda m: m.transpose(0, 2, 1).reshape(-1, 16),
+                                    "written column by column"),
+}
+
+
+def _millimetres(m):
+    out = m.copy()
+    out[:, :3, 3] *= 1000.0
+    return out.reshape(-1, 16)
+
+
+def _nominal(truth, seed):
+    """The mount as a drawing would give it: the true one off by about 2 degrees (scipy)."""
+    wobble = np.random.default_rng(seed + 7).normal(size=3)
+    return (truth["mount"] * Rotation.from_rotvec(wobble / np.linalg.norm(wobble) * math.radians(2.0))).as_matrix()
+
+
+def _angle_deg(a, b):
+    """Angle between two rotation matrices, by scipy (magnitude of a^-1 b)."""
+    return float(np.degrees((Rotation.from_matrix(a).inv() * Rotation.from_matrix(b)).magnitude()))
+
+
+def _named(out: StreamAlignment, words: str) -> bool:
+    """The words name the lead explanation or a slip it calls the same mistake written another way."""
+    return any(words in s for s in (out.sentence, *out.best.same))
+
+
+def _check_common(out: StreamAlignment, truth, values_b, rb: Rotation):
+    assert abs(out.offset - truth["offset"]) <= 1.0 / A_RATE, (out.offset, truth["offset"])
+    assert np.isfinite(out.offset_uncertainty) and out.offset_uncertainty > 0
+    assert _angle_deg(out.mount_rotation, truth["mount"].as_matrix()) <= 0.1
+    # the diagnosed slip, undone, gives scipy's true orientations of B (row by row)
+    decoded, _ = out.slip.decode(values_b)
+    worst = np.max((Rotation.from_matrix(decoded).inv() * rb).magnitude())
+    assert worst <= 1e-6, np.degrees(worst)
+    assert out.explained and out.residuals.rotation_rms <= 0.5
+    json.dumps(out.as_dict())
+    assert out.verdict in out.summary() and out.best.code in out.summary()
+
+
+GRID_SEEDS = (11, 12, 13)
+
+
+@pytest.mark.parametrize("seed", GRID_SEEDS)
+@pytest.mark.parametrize("name", sorted(ROTATION_SLIPS))
+def test_rotation_slip_grid(name, seed):
+    stated, writer, words, changes_speeds, needs_nominal = ROTATION_SLIPS[name]
+    truth = _truth(seed)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    values_b = writer(rb)
+    nominal = _nominal(truth, seed) if needs_nominal else None
+    out = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, values_b, stated,
+                        nominal_mount=nominal)
+    _check_common(out, truth, values_b, rb)
+    assert _named(out, words), (out.sentence, out.best.same)
+    assert out.best.speed_rank == 1          # step 1's best speed match is the reading diagnosed in step 3
+    if changes_speeds:                       # step 1 alone already says the stated reading is not the one
+        assert out.speed_matches[0].reading != out.stated_b
+        stated_match = [m for m in out.speed_matches if out.stated_b in m.readings]
+        assert not stated_match or stated_match[0].time_offset.mismatch > 10 * out.time_offset.mismatch
+    if name == "B's axes remapped (optical)":
+        assert np.array_equal(REMAPS[out.slip.child_remap], OPTICAL)
+
+
+@pytest.mark.parametrize("seed", GRID_SEEDS[:2])
+@pytest.mark.parametrize("name", sorted(POSE_SLIPS))
+def test_pose_slip_grid(name, seed):
+    stated, writer, words = POSE_SLIPS[name]
+    truth = _truth(seed)
+    ta, ra, pa, tb, rb, pb = _streams(truth)
+    values_a = np.concatenate([pa, ra.as_quat(scalar_first=True)], axis=1)   # position first, scalar first
+    values_b = writer(_matrix4(rb, pb))
+    out = align_streams(ta, values_a, "scalar=first", tb, values_b, stated, kind_b="transform")
+    _check_common(out, truth, values_b, rb)
+    assert _named(out, words), (out.sentence, out.best.same)
+    assert out.mount.shape == (4, 4)
+    assert np.max(np.abs(out.mount_translation - truth["mount_t"])) <= 1e-3
+    assert out.residuals.translation is not None and out.residuals.translation_rms <= 1e-3
+    # the mount written in B's stated reading reads back (posekit's reader) as the mount
+    back = stated_reading(16, "transform", stated)
+    r_back, t_back = read_numbers(back, np.array(out.mount_numbers))
+    assert np.allclose(r_back, out.mount_rotation, atol=1e-9) and np.allclose(t_back, out.mount_translation)
+
+
+def test_the_analysis_layer_exports_the_function():
+    import posekit
+    assert posekit.analysis.align_streams is align_streams and "align_streams" in posekit.analysis.__all__
+
+
+def test_noisy_streams_still_give_offset_mount_and_slip():
+    """0.05 degree of orientation noise on B (random rotation vectors, numpy), 0.5 mm on its positions."""
+    for seed in (21, 22):
+        truth = _truth(seed)
+        ta, ra, pa, tb, rb, pb = _streams(truth)
+        rng = np.random.default_rng(seed)
+        noisy = rb * Rotation.from_rotvec(rng.normal(size=(len(rb), 3)) * math.radians(0.05) / math.sqrt(3))
+        values_b = np.concatenate([pb + rng.normal(size=pb.shape) * 5e-4, noisy.as_euler("ZYX", degrees=True)], 1)
+        values_a = np.concatenate([pa, ra.as_quat(scalar_first=True)], axis=1)
+        out = align_streams(ta, values_a, "scalar=first", tb, values_b, "sequence=z-y-x")
+        assert abs(out.offset - truth["offset"]) <= 1.0 / A_RATE
+        assert _angle_deg(out.mount_rotation, truth["mount"].as_matrix()) <= 0.1
+        assert np.max(np.abs(out.mount_translation - truth["mount_t"])) <= 5e-3
+        assert "written in degrees but read as radians" in out.sentence
+
+
+def test_offset_uncertainty_is_honest_over_seeds():
+    """The offset error stays within 3 stated uncertainties (plus float noise) on clean and noisy data."""
+    errs, uncs = [], []
+    for seed in (31, 32, 33, 34):
+        truth = _truth(seed)
+        ta, ra, _, tb, rb, _ = _streams(truth)
+        rng = np.random.default_rng(seed)
+        noisy = rb * Rotation.from_rotvec(rng.normal(size=(len(rb), 3)) * math.radians(0.1) * (seed % 2))
+        out = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, noisy.as_quat(), "scalar=last")
+        errs.append(abs(out.offset - truth["offset"]))
+        uncs.append(out.offset_uncertainty)
+    errs, uncs = np.array(errs), np.array(uncs)
+    assert np.all(errs <= 3 * uncs + 1e-6), (errs, uncs)
+    assert np.all(uncs < 1.0 / A_RATE), uncs
+
+
+def test_without_a_nominal_mount_scalar_order_is_a_tie_the_mount_alone_can_break():
+    """Any reordering of a quaternion's numbers is R or R^T turned by constants on both sides:
+    relative motions cannot see it.  Without nominal_mount the true reading is listed as fitting
+    exactly as well with another mount, and the notes ask for the nominal mount."""
+    truth = _truth(41)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    out = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, rb.as_quat(), "scalar=first")
+    found = [s for s, _ in out.best.mount_only] + [out.sentence]
+    assert any("written scalar-last but read scalar-first" in s for s in found), found
+    assert out.best.near_tie
+    assert any("nominal_mount" in n for n in out.notes)
+    # the speeds cannot tell the four readings apart either: one class holds them all
+    assert len(out.speed_matches[0].readings) == 4
+
+
+def test_nominal_mount_names_the_sequence_among_its_relabelled_twins():
+    truth = _truth(42)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    values_b = rb.as_euler("YZX")
+    plain = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, values_b, "sequence=z-y-x")
+    twins = [plain.sentence] + [s for s, _ in plain.best.mount_only]
+    assert any("sequence is y-z-x" in s for s in twins), twins
+    told = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, values_b, "sequence=z-y-x",
+                         nominal_mount=_nominal(truth, 42))
+    assert "sequence is y-z-x but was read as z-y-x" in told.sentence
+    assert told.best.nominal_angle_degrees is not None and told.best.nominal_angle_degrees < 3.0
+
+
+# --------------------------------------------------------------------------------------
+# degenerate motions
+# --------------------------------------------------------------------------------------
+
+def test_single_axis_motion_says_which_second_motion_to_add():
+    truth = _truth(51, single_axis=np.array([0.0, 0.0, 1.0]))
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    with pytest.raises(DegenerateMotionError) as err:
+        align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, rb.as_quat(), "scalar=last")
+    text = str(err.value)
+    assert "turn about a second axis, at least 15 degrees away from the first" in text
+    assert "A's body z axis" in text
+    assert isinstance(err.value, PoseInputError)
+
+
+def test_too_little_rotation_says_how_much_more():
+    truth = _truth(52, amplitude=math.radians(0.5))
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    with pytest.raises(DegenerateMotionError, match=r"turned only .* degrees in all.*at least 30 degrees"):
+        align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, rb.as_quat(), "scalar=last")
+
+
+def test_constant_speed_cannot_give_the_clock_offset():
+    truth = _truth(53, single_axis=np.array([0.6, 0.0, 0.8]), constant_rate=0.7)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    with pytest.raises(DegenerateMotionError, match="angular speed hardly varies"):
+        align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, rb.as_quat(), "scalar=last")
+
+
+def test_mostly_one_axis_motion_states_the_near_tie_and_the_separating_turn():
+    """Turning mostly about A's z axis, with a small excursion about x, barely separates the transposed
+    reading (world-frame increments) from the true one (body-frame increments): the result says so,
+    and names the turn that would separate them."""
+    rng = np.random.default_rng(61)
+    key_t = np.linspace(0.0, DURATION, 9)
+    yaw = np.cumsum(rng.uniform(0.6, 1.4, 9) * rng.choice([-1.0, 1.0], 9))
+    roll = rng.uniform(-1, 1, 9) * math.radians(3.0)
+    key_r = Rotation.from_euler("ZX", np.stack([yaw, roll], 1))            # scipy: intrinsic z then x
+    truth = _truth(61)
+    truth["spline"] = RotationSpline(key_t, key_r)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    out = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, rb.as_quat(), "scalar=last",
+                        min_axis_spread=math.radians(2.0), rotation_tolerance=math.radians(2.0))
+    assert _angle_deg(out.mount_rotation, truth["mount"].as_matrix()) <= 0.1
+    assert out.slip.is_none
+    tied = [e for e in out.explanations[1:] if e.near_tie]
+    assert tied, [(e.sentence, e.residuals.rotation_rms) for e in out.explanations]
+    assert out.best.near_tie
+    motion = tied[0].separable[0][1]
+    assert "turn about" in motion and "would separate them" in motion, motion
+
+
+# --------------------------------------------------------------------------------------
+# the hand-eye solvers against Tsai & Lenz 1989 and scipy's align_vectors
+# --------------------------------------------------------------------------------------
+
+def _skew(v):
+    return np.array([[0.0, -v[2], v[1]], [v[2], 0.0, -v[0]], [-v[1], v[0], 0.0]])
+
+
+def _tsai_lenz_rotation(a, b):
+    """Tsai & Lenz 1989 ("A new technique for fully autonomous and efficient 3D robotics hand/eye
+    calibration", IEEE Trans. Robotics and Automation 5(3)), rotation part, for A_i X = X B_i (their
+    gripper motion A, camera motion B): P = 2 sin(theta / 2) n of each motion; solve
+    skew(P_A + P_B) P' = P_B - P_A by least squares; P_X = 2 P' / sqrt(1 + |P'|^2);
+    R_X = (1 - |P_X|^2 / 2) I + (P_X P_X^T + sqrt(4 - |P_X|^2) skew(P_X)) / 2.
+    Axes and angles by scipy (as_rotvec)."""
+    def rodrigues_p(r):
+        rv = Rotation.from_matrix(r).as_rotvec()
+        th = np.linalg.norm(rv, axis=1, keepdims=True)
+        return 2.0 * np.sin(th / 2.0) * rv / th
+
+    pa, pb = rodrigues_p(a), rodrigues_p(b)
+    m = np.concatenate([_skew(x + y) for x, y in zip(pa, pb)])
+    p_prime = np.linalg.lstsq(m, (pb - pa).reshape(-1), rcond=None)[0]
+    px = 2.0 * p_prime / math.sqrt(1.0 + p_prime @ p_prime)
+    n2 = px @ px
+    return (1.0 - n2 / 2.0) * np.eye(3) + 0.5 * (np.outer(px, px) + math.sqrt(4.0 - n2) * _skew(px))
+
+
+def _tsai_lenz_translation(a, ta, rx, tb):
+    """Tsai & Lenz 1989, translation: (R_A - I) t_X = R_X t_B - t_A, least squares (numpy lstsq)."""
+    c = np.concatenate([r - np.eye(3) for r in a])
+    d = np.concatenate([rx @ y - x for x, y in zip(ta, tb)])
+    return np.linalg.lstsq(c, d, rcond=None)[0]
+
+
+@pytest.mark.parametrize("noise_deg", [0.0, 0.2])
+@pytest.mark.parametrize("seed", [71, 72, 73])
+def test_park_martin_agrees_with_tsai_lenz_and_align_vectors(seed, noise_deg):
+    rng = np.random.default_rng(seed)
+    x = Rotation.random(random_state=seed)
+    tx = rng.normal(size=3)
+    b = Rotation.from_rotvec(rng.normal(size=(40, 3)) * 0.8)                 # B's relative motions
+    tb = rng.normal(size=(40, 3))
+    noise = Rotation.from_rotvec(rng.normal(size=(40, 3)) * math.radians(noise_deg) / math.sqrt(3))
+    a = noise * x * b * x.inv()                                             # A_i = X B_i X^-1 (scipy products)
+    ta = x.apply(tb) + tx - a.apply(tx)                                     # t_A = R_X t_B + t_X - R_A t_X
+    alpha, beta = a.as_rotvec(), b.as_rotvec()
+    pm = park_martin_rotation(alpha, beta)
+    tl = _tsai_lenz_rotation(a.as_matrix(), b.as_matrix())
+    av = Rotation.align_vectors(alpha, beta)[0].as_matrix()                # scipy: Wahba's problem, same objective
+    assert _angle_deg(pm, av) <= 1e-7
+    limit = 1e-7 if noise_deg == 0 else 0.1
+    assert _angle_deg(pm, tl) <= limit and _angle_deg(pm, x.as_matrix()) <= limit
+    # solve_mount on 4x4 motions: the rotation above and the Tsai & Lenz translation
+    ma, mb = _matrix4(a, ta), _matrix4(b, tb)
+    rx, t_found = solve_mount(ma, mb)
+    assert _angle_deg(rx, pm) <= 1e-9
+    t_tl = _tsai_lenz_translation(a.as_matrix(), ta, rx, tb)
+    assert np.allclose(t_found, t_tl, atol=1e-9)
+    assert np.max(np.abs(t_found - tx)) <= (1e-7 if noise_deg == 0 else 0.05)
+
+
+def test_park_martin_keeps_a_proper_rotation_when_axes_span_a_plane():
+    """Two turn axes only (rank-2 M): the SVD form still gives the rotation (Park & Martin's
+    (M^T M)^(-1/2) M^T is undefined there)."""
+    x = Rotation.random(random_state=5)
+    b = Rotation.from_rotvec([[0.7, 0, 0], [0, 0.5, 0], [0.3, 0.2, 0]])       # axes in B's x-y plane
+    a = x * b * x.inv()
+    r = park_martin_rotation(a.as_rotvec(), b.as_rotvec())
+    assert np.linalg.det(r) > 0 and _angle_deg(r, x.as_matrix()) <= 1e-7
+
+
+def test_relative_angles_match_scipy_including_tiny_and_near_half_turns():
+    rng = np.random.default_rng(3)
+    r0 = Rotation.random(200, random_state=4)
+    steps = rng.normal(size=(200, 3))
+    steps /= np.linalg.norm(steps, axis=1, keepdims=True)
+    sizes = np.concatenate([np.full(50, 1e-9), rng.uniform(0, math.pi, 100), math.pi - np.full(50, 1e-7)])
+    r1 = r0 * Rotation.from_rotvec(steps * sizes[:, None])
+    ours = relative_angles(r0.as_matrix(), r1.as_matrix())
+    ref = (r0.inv() * r1).magnitude()                                         # scipy
+    assert np.max(np.abs(ours - ref)) <= 1e-9
+
+
+# --------------------------------------------------------------------------------------
+# the slips' forward model and bad inputs
+# --------------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("count,text", [(4, "scalar=last algebra=jpl"),
+                                        (3, "sequence=x-y-z unit=degrees action=passive"),
+                                        (16, "direction=child-from-parent layout=column-major"),
+                                        (7, "direction=child-from-parent")])
+def test_encode_is_undone_by_slip_decode(count, text):
+    stated = stated_reading(count, convention="")
+    true = stated_reading(count, convention=text)
+    r = Rotation.random(6, random_state=9).as_matrix()
+    t = np.random.default_rng(9).normal(size=(6, 3)) if true.has_translation else None
+    for q in (0, 5, 17):
+        for scale, frame in ((1.0, "parent"), (1e-3, "child-axes"), (1e3, "inverse-translation")):
+            slip = Slip(stated, true, False, 0, q, scale if t is not None else 1.0,
+                        frame if t is not None else "parent")
+            r2, t2 = slip.decode(_encode(slip, r, t))
+            assert np.allclose(r2, r, atol=1e-12)
+            assert t is None or np.allclose(t2, t, atol=1e-9)
+
+
+def _simple():
+    truth = _truth(81)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    return ta, ra.as_quat(scalar_first=True), tb, rb.as_quat()
+
+
+def test_bad_times_are_typed_and_say_what_is_accepted():
+    ta, qa, tb, qb = _simple()
+    shuffled = tb.copy()
+    shuffled[10], shuffled[11] = shuffled[11], shuffled[10]
+    with pytest.raises(StreamTimesError, match="not strictly increasing at sample 11"):
+        align_streams(ta, qa, "scalar=first", shuffled, qb, "scalar=last")
+    with pytest.raises(StreamTimesError, match="time stamps for"):
+        align_streams(ta[:-1], qa, "scalar=first", tb, qb, "scalar=last")
+    with pytest.raises(StreamTimesError, match="at least 20"):
+        align_streams(ta[:5], qa[:5], "scalar=first", tb, qb, "scalar=last")
+    with pytest.raises(WrongShapeError, match="rows of 4 numbers"):
+        align_streams(ta, qa, "scalar=first", tb, qb, "", kind_b="euler")
+
+
+def test_no_overlap_and_a_reference_that_is_no_rotation():
+    ta, qa, tb, qb = _simple()
+    with pytest.raises(NoOverlapError, match="max_offset"):
+        align_streams(ta, qa, "scalar=first", tb + 1000.0, qb, "scalar=last", max_offset=5.0)
+    bad = qa.copy()
+    bad[3] = 0.0
+    with pytest.raises(ReferenceStreamError, match="row 3"):
+        align_streams(ta, bad, "scalar=first", tb, qb, "scalar=last")
+    with pytest.raises(PoseInputError, match="min_axis_spread"):
+        align_streams(ta, qa, "scalar=first", tb, qb, "scalar=last", min_axis_spread=4.0)
+    with pytest.raises(WrongShapeError, match="nominal_mount"):
+        align_streams(ta, qa, "scalar=first", tb, qb, "scalar=last", nominal_mount=np.eye(2))
