@@ -12,7 +12,12 @@ Verbs::
 Every NUMBERS / TEXT argument is pasted text as :func:`posekit.analysis.parse_numbers`
 reads it, or ``-`` to read standard input.  Convention arguments use posekit's text
 form (``Convention.parse``), e.g. ``"scalar=last"`` or ``"sequence=x-y-z axes=extrinsic
-unit=degrees"``.  ``--json`` prints one JSON object instead of text.  Exit status: 0 on
+unit=degrees"``.  Angles given without a unit (no ``unit=`` key, no unit word) are read
+in degrees on both sides of ``diagnose``, as in the desk and in ``diagnose()``; the
+other unit is scored too.  ``diagnose`` says in one line what it took the expected
+input to be and prints the exact flag for each other reading (``--expected-kind
+rotation-vector``, ``--expected-convention unit=radians``).  ``--json`` prints one JSON
+object instead of text.  Exit status: 0 on
 success, 1 when ``diagnose`` finds no single slip that explains the numbers within the
 tolerances, 2 for bad input (one line on standard error: what was wrong, where, a short
 excerpt of the value, what is accepted; no traceback), 3 when the tour cannot start
@@ -30,6 +35,7 @@ import json
 import math
 import os
 import re
+import shlex
 import shutil
 import subprocess
 import sys
@@ -111,8 +117,10 @@ def build_parser() -> argparse.ArgumentParser:
     d = sub.add_parser("diagnose", help="rank explanations of how the observed numbers came from the expected pose")
     d.add_argument("--expected", help="expected pose: numbers, or words such as 'pitched 25 degrees down, 0.3 m "
                                       "forward' (forward=+x, left=+y, up=+z)")
-    d.add_argument("--expected-kind", help="kind of the expected numbers (default: by count)")
-    d.add_argument("--expected-convention", help="convention of the expected numbers (posekit text form)")
+    d.add_argument("--expected-kind", help="kind of the expected numbers (default: guessed from the count; the "
+                                           "output says what was assumed and the flag for each other reading)")
+    d.add_argument("--expected-convention", help="convention of the expected numbers (posekit text form); angles "
+                                                 "without a unit are read in degrees")
     d.add_argument("--observed", help="observed numbers as pasted")
     d.add_argument("--assumed", help="convention you read the observed numbers with (default: the expected one)")
     d.add_argument("--assumed-kind", help="kind you read the observed numbers as (default: by count)")
@@ -243,8 +251,43 @@ def _read_lines(path: str, what: str, input_limit: int | None = None) -> np.ndar
     return np.array(rows)
 
 
+def _flag(choice) -> str:
+    """The exact flag that reads the expected input as ``choice`` (a ReadingChoice)."""
+    if choice.field == "kind":
+        return f"--expected-kind {choice.value}"
+    return f"--expected-convention {shlex.quote(choice.convention)}"
+
+
+def _guess_lines(guess) -> list[str]:
+    """What the expected input was taken to be (one line), a note when its magnitudes point to the other
+    unit, and the flag to add for each other reading."""
+    from .view.diagnosis import choice_words
+
+    if guess is None:
+        return []
+    lines = ["expected " + guess.line()]
+    note = guess.note()
+    if note:
+        to = next((c for c in guess.alternatives if c.field == "unit"), None)
+        lines.append("note: " + note + ("" if to is None else f"; if they are {to.value}, add {_flag(to)}"))
+    if guess.alternatives:
+        lines.append("  to read the expected input otherwise, add one of: "
+                     + "; ".join(f"{_flag(c)} ({choice_words(c)})" for c in guess.alternatives))
+    return lines
+
+
+def _with_guess(data: dict, text: str, guess) -> tuple[dict, str]:
+    """The diagnosis text with the guess lines after its verdict; the JSON with ``expected_guess``."""
+    if guess is None:
+        return data, text
+    data["expected_guess"] = dict(guess.as_dict(), alternatives=[dict(c.as_dict(), flag=_flag(c))
+                                                                  for c in guess.alternatives])
+    head, _, rest = text.partition("\n")
+    return data, "\n".join([head, *_guess_lines(guess), rest])
+
+
 def _diagnose(args) -> tuple[dict, str]:
-    from .analysis.diagnose import diagnose, diagnose_batch, expected_pose
+    from .analysis.diagnose import diagnose, diagnose_batch, expected_rows
 
     tol_r = math.radians(args.rotation_tolerance)
     for a, b in (("expected", "observed"), ("expected_file", "observed_file")):
@@ -264,12 +307,12 @@ def _diagnose(args) -> tuple[dict, str]:
         if len(exp) != len(obs):
             raise CliInputError(f"batch mode: {len(exp)} expected poses but {len(obs)} observed ones; accepted: "
                                 "one observed line per expected line")
-        exp_pose = expected_pose(exp, args.expected_kind, args.expected_convention)
+        exp_pose = expected_rows(exp, args.expected_kind, args.expected_convention)
         result = diagnose_batch(exp_pose, obs, assumed=args.assumed, assumed_kind=args.assumed_kind,
                                 expected_convention=args.expected_convention, reflections=args.reflections,
                                 rotation_tolerance=tol_r, translation_tolerance=args.translation_tolerance,
                                 limit=args.limit)
-        return result.as_dict(), result.summary(), result.explained
+        return (*_with_guess(result.as_dict(), result.summary(), exp_pose.guess), result.explained)
     expected = _text(args.expected, "--expected", args.input_limit)
     observed = _text(args.observed, "--observed", args.input_limit)
     for flag, text in (("--expected", expected), ("--observed", observed)):
@@ -281,7 +324,7 @@ def _diagnose(args) -> tuple[dict, str]:
                          expected_kind=args.expected_kind, expected_convention=args.expected_convention,
                          reflections=args.reflections, rotation_tolerance=tol_r,
                          translation_tolerance=args.translation_tolerance, limit=args.limit)
-    return result.as_dict(), result.summary(args.limit), result.explained
+    return (*_with_guess(result.as_dict(), result.summary(args.limit), result.expected.guess), result.explained)
 
 
 def _kind_by_count(n: int) -> str:

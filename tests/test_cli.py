@@ -269,3 +269,66 @@ def test_expected_convention_changes_the_batch_answer(tmp_path):
                              expected_convention=ec).as_dict()
         assert data["explanations"][0]["sentence"] == api["explanations"][0]["sentence"]
         assert np.allclose(data["rotation_residuals_degrees"], api["rotation_residuals_degrees"], atol=1e-9)
+
+
+# --- the expected input: guessed, said back in one line, each other reading one flag away ----------
+
+def test_diagnose_says_how_it_read_the_expected_numbers_and_the_flag_for_each_other_reading():
+    from posekit.analysis.diagnose import expected_pose
+
+    proc = run("diagnose", "--expected", "30 -10 5", "--observed", "30 -10 5", "--assumed", "unit=radians")
+    assert proc.returncode == 0, proc.stderr
+    lines = proc.stdout.splitlines()
+    assert lines[0] == "The angles were written in degrees but read as radians (stated)."
+    assert lines[1] == "expected " + expected_pose("30 -10 5").guess.line()   # posekit's analysis, directly
+    assert lines[1] == "expected read as: Euler angles z-y-x in degrees (from 3 numbers; magnitudes up to 30)"
+    assert "--expected-kind rotation-vector (a rotation vector)" in lines[2]
+    assert "--expected-convention unit=radians (angles in radians)" in lines[2]
+    # the printed flag, added as printed, reads the expected numbers that way
+    again = run("diagnose", "--expected", "30 -10 5", "--observed", "30 -10 5", "--assumed", "unit=radians",
+                "--expected-convention", "unit=radians", "--json")
+    data = json.loads(again.stdout)
+    assert data["expected_guess"]["unit"] == "radians" and data["expected_guess"]["unit_from"] == "stated"
+    assert data["explanations"][0]["deviations"] == 0
+    # scipy: the expected pose read the printed way is Rotation.from_euler("ZYX", ..., degrees=False)
+    assert np.allclose(data["explanations"][0]["corrected_rotation"],
+                       Rotation.from_euler("ZYX", [30, -10, 5]).as_matrix(), atol=1e-9)
+
+
+def test_the_json_lists_each_other_reading_with_its_flag():
+    proc = run("diagnose", "--expected", "0 0 0.3826834 0.9238795", "--observed", "0 0 0.3826834 0.9238795",
+               "--expected-convention", "sequence=x-y-z", "--json")
+    guess = json.loads(proc.stdout)["expected_guess"]
+    assert guess["kind"] == "quaternion" and guess["count"] == 4 and guess["kind_from"] == "count"
+    assert guess["alternatives"] == [{"field": "scalar", "value": "last", "kind": "quaternion",
+                                      "convention": "sequence=x-y-z scalar=last",
+                                      "flag": "--expected-convention 'sequence=x-y-z scalar=last'"}]
+
+
+def test_a_note_says_when_the_magnitudes_look_like_the_other_unit():
+    proc = run("diagnose", "--expected", "0.5 0.2 0.1", "--observed", "0 0 0 1")
+    note = next(ln for ln in proc.stdout.splitlines() if ln.startswith("note: the magnitudes"))
+    assert "look like radians" in note and note.endswith("if they are radians, add --expected-convention unit=radians")
+
+
+def test_unstated_typed_angles_are_degrees_on_both_sides():
+    proc = run("diagnose", "--expected", "yawed 90 degrees left", "--observed", "90 0 0")
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.splitlines()[0] == "The numbers match the expected pose as you read them: no convention error."
+    # and in radians once stated: then 90 is read as radians and the slip is named
+    stated = run("diagnose", "--expected", "yawed 90 degrees left", "--observed", "90 0 0", "--assumed",
+                 "unit=radians")
+    assert stated.stdout.splitlines()[0] == "The angles were written in degrees but read as radians (stated)."
+
+
+def test_batch_lines_of_three_numbers_are_three_poses_not_a_matrix(tmp_path):
+    angles = np.array([[30.0, -10.0, 5.0], [0.0, 20.0, 0.0], [90.0, 0.0, -45.0]])
+    q = Rotation.from_euler("ZYX", angles, degrees=True).as_quat()             # scipy: scalar last
+    exp, obs = tmp_path / "e.txt", tmp_path / "o.txt"
+    exp.write_text("\n".join(_text(a) for a in angles))
+    obs.write_text("\n".join(_text(v) for v in q))
+    proc = run("diagnose", "--expected-file", str(exp), "--observed-file", str(obs), "--json")
+    assert proc.returncode == 0, proc.stderr
+    data = json.loads(proc.stdout)
+    assert data["pairs"] == 3 and data["expected_guess"]["kind"] == "euler"
+    assert data["explanations"][0]["sentence"] == "The quaternion was written scalar-last but read scalar-first."

@@ -16,7 +16,7 @@ import pytest
 from fresh_kernel import state_rebuilt_in_fresh_kernel
 
 import posekit as pk
-from posekit.analysis.diagnose import diagnose, diagnose_batch, expected_pose, pose_from_words
+from posekit.analysis.diagnose import diagnose, diagnose_batch, expected_pose, expected_rows, pose_from_words
 from posekit.io.paste import parse_numbers
 from posekit.io.state import State, state_from_json, state_to_json
 from posekit.view.frames import frame_points
@@ -48,8 +48,12 @@ def desk():
                      convention=CONV)
 
 
-def _reference(pasted, expected_text, kind="euler", conv=CONV):
-    return diagnose(expected_pose(expected_text, kind, conv), parse_numbers(pasted), expected_convention=conv)
+def _reference(pasted, expected_text, kind="euler", conv=CONV, expected_conv=None):
+    """posekit's analysis called directly: the expected numbers read with the fields the desk states for
+    them (the bar's fields off posekit's defaults, never the unit: typed angles are guessed, degrees first),
+    the numbers you got read with the bar's convention."""
+    return diagnose(expected_pose(expected_text, kind, expected_conv), parse_numbers(pasted),
+                    expected_convention=conv)
 
 
 def test_explanation_list_equals_diagnose(desk):
@@ -168,7 +172,7 @@ def test_understood_panel_lists_the_parser_readings(desk):
 def test_convention_bar_changes_the_assumed_reading(desk):
     desk.bar.controls["scalar"].value = "last"
     assert "scalar=last" in desk.convention
-    ref = diagnose(expected_pose(desk.expected_text, "euler", desk.convention), parse_numbers(desk.pasted),
+    ref = diagnose(expected_pose(desk.expected_text, "euler", "scalar=last"), parse_numbers(desk.pasted),
                    expected_convention=desk.convention)
     assert desk.diagnosis.best.sentence == ref.best.sentence
     assert desk.diagnosis.best.rotation_residual < math.radians(0.01)
@@ -182,7 +186,7 @@ def test_batch_of_pairs_equals_diagnose_batch():
     logged = pk.write_rotation(truth @ offset, "quaternion", "scalar=last")
     desk = DebugDesk(observed=logged, expected=angles, expected_kind="euler", convention=CONV)
     assert desk.pairs == "many"
-    ref = diagnose_batch(angles, logged, expected_kind="euler", expected_convention=CONV)
+    ref = diagnose_batch(expected_rows(angles, "euler"), logged, expected_convention=CONV)
     got = desk.diagnosis
     assert [e.sentence for e in got.explanations] == [e.sentence for e in ref.explanations]
     assert not ref.consistent and ref.offset is not None
@@ -196,7 +200,7 @@ def test_batch_of_pairs_equals_diagnose_batch():
 
 def test_batch_line_with_bad_text_names_the_line():
     desk = DebugDesk(pasted="0 0 0 1\n0 0 0 1\n0 0 x 1", pairs="many", expected="0 0 0", convention=CONV)
-    assert "on pasted line 3" in desk.understood.value
+    assert "in the 'numbers you got' box, line 3" in desk.understood.value
     assert desk.diagnosis is None
 
 
@@ -255,3 +259,155 @@ def test_observed_may_be_text_and_bad_observed_numbers_raise_typed_errors():
     assert DebugDesk(observed=text).pasted == DebugDesk(pasted=text).pasted == text
     with pytest.raises(PoseInputError, match="ragged|unequal|rectangular"):
         DebugDesk(observed=[[1, 2], [3]])
+
+
+# --- what was typed as expected: guessed, said in one line, other readings one click away -------------
+
+def test_the_expected_input_is_said_back_in_one_line_with_one_button_per_other_reading():
+    text = "0.2 0.1 -0.3"   # small numbers with fractions: read as degrees (no unit typed), radians suggested
+    q = pk.write_rotation(pk.read_rotation([0.2, 0.1, -0.3], "euler", "unit=radians"), "quaternion")
+    pasted = " ".join(f"{v:.9f}" for v in q)
+    desk = DebugDesk(pasted=pasted, expected=text, convention=CONV)
+    guess = expected_pose(text).guess   # posekit's analysis, called directly
+    assert guess.kind == "euler" and guess.unit == "degrees" and guess.unit_from == "default"
+    assert html.escape(guess.line()) in desk.read_as.value
+    assert "pk-unit-note" in desk.read_as.value and "look like radians" in desk.read_as.value
+    buttons = [b for b in desk.choice_row.children if isinstance(b, type(desk.apply_button))]
+    from posekit.view.diagnosis import choice_words
+    assert [b.description for b in buttons] == [choice_words(c) for c in guess.alternatives]
+    assert [(c.field, c.value) for c in guess.alternatives] == [("kind", "rotation-vector"), ("unit", "radians")]
+    # one click re-reads the expected numbers in radians; the answer is then posekit's for that reading
+    next(b for b in buttons if b.description == "angles in radians").click()
+    assert desk.expected_override == "unit=radians"
+    ref = _reference(pasted, text, kind=None, expected_conv="unit=radians")
+    assert [e.sentence for e in desk.diagnosis.explanations] == [e.sentence for e in ref.explanations]
+    assert ref.best.deviations == 0 and "in radians" in desk.read_as.value
+    # and one click back (the guess itself: no field chosen for the expected numbers)
+    back = next(b for b in desk.choice_row.children if getattr(b, "description", "") == "angles in degrees")
+    back.click()
+    assert desk.expected_override == "none"
+
+
+def test_a_kind_button_chooses_the_kind_and_the_count_kind_goes_back_to_guessing():
+    desk = DebugDesk(pasted="0 0 0 1", expected="10 0 0", convention=CONV)
+    rv = next(b for b in desk.choice_row.children if getattr(b, "description", "") == "a rotation vector")
+    rv.click()
+    assert desk.expected_kind == "rotation-vector"
+    want = pk.read_rotation([10.0, 0.0, 0.0], "rotation-vector", "unit=degrees")   # posekit's core
+    np.testing.assert_allclose(desk.expected().rotation, want, atol=1e-12)
+    euler = next(b for b in desk.choice_row.children if getattr(b, "description", "") == "Euler angles")
+    euler.click()
+    assert desk.expected_kind == "by count"
+
+
+def test_degrees_read_as_radians_is_named_and_corrected_like_scipy():
+    from scipy.spatial.transform import Rotation   # the reference for the corrected numbers: scipy
+
+    desk = DebugDesk(pasted="30 -10 5", expected="30 -10 5", convention="sequence=z-y-x unit=radians")
+    assert desk.diagnosis.best.sentence == "The angles were written in degrees but read as radians."
+    want = Rotation.from_euler("ZYX", [30, -10, 5], degrees=True).as_euler("ZYX")   # scipy: intrinsic, radians
+    np.testing.assert_allclose(desk.diagnosis.best.corrected_numbers, want, atol=1e-12)
+    assert desk.copy_numbers.text == ", ".join(f"{v:.9g}" for v in desk.diagnosis.best.corrected_numbers)
+    assert desk.copy_code.text == desk.code_box.value == desk.diagnosis.best.code
+
+
+def test_the_desk_reads_unstated_typed_angles_in_degrees_like_diagnose():
+    desk = DebugDesk(pasted="90 0 0", expected="yawed 90 degrees left")
+    ref = diagnose("yawed 90 degrees left", "90 0 0")
+    assert ref.best.deviations == 0 and ref.explained
+    assert desk.diagnosis.best.sentence == ref.best.sentence
+    assert desk.diagnosis.best.deviations == 0
+
+
+# --- apply fix, undo, copy ---------------------------------------------------------------------------
+
+def test_apply_fix_pastes_the_corrected_numbers_and_undo_restores_everything(desk):
+    desk.chosen = 0
+    before = desk._settings()
+    sentences = [e.sentence for e in desk.diagnosis.explanations]
+    best = desk.diagnosis.best
+    assert not desk.apply_button.disabled and desk.undo_button.disabled
+    desk.apply_button.click()
+    np.testing.assert_array_equal(parse_numbers(desk.pasted).numbers, best.corrected_numbers)
+    ref = _reference(desk.pasted, desk.expected_text)
+    assert desk.diagnosis.best.sentence == ref.best.sentence and ref.best.deviations == 0
+    assert not desk.undo_button.disabled and "undo" in desk.action_status.value
+    desk.undo_button.click()
+    assert desk._settings() == before
+    assert [e.sentence for e in desk.diagnosis.explanations] == sentences
+    assert desk.undo_button.disabled
+
+
+def test_apply_fix_also_takes_the_expected_unit_the_explanation_used():
+    # expected angles typed in radians without a unit; the numbers you got are that pose as a quaternion
+    text = "0.5 0.2 0.1"
+    q = pk.write_rotation(pk.read_rotation([0.5, 0.2, 0.1], "euler", "unit=radians"), "quaternion")
+    desk = DebugDesk(pasted=" ".join(f"{v:.12f}" for v in q), expected=text, convention=CONV)
+    assert "meant in radians" in desk.diagnosis.best.sentence
+    desk.apply_fix()
+    assert desk.expected_override == "unit=radians" and desk.diagnosis.best.deviations == 0
+    desk.undo()
+    assert desk.expected_override == "none" and "meant in radians" in desk.diagnosis.best.sentence
+
+
+def test_copy_buttons_are_empty_and_apply_is_off_while_nothing_is_explained(desk):
+    assert desk.copy_code.text and desk.copy_numbers.text
+    desk.paste_box.value = "0.5, banana"
+    assert desk.copy_code.text == "" and desk.copy_numbers.text == "" and desk.apply_button.disabled
+    desk.apply_fix()   # nothing to apply: said, nothing changed
+    assert desk.pasted == "0.5, banana" and "Nothing to apply" in desk.action_status.value
+
+
+# --- nothing stale; words of the desk; pairs from 1 --------------------------------------------------
+
+def _pairs_desk():
+    rng = np.random.default_rng(3)
+    angles = np.column_stack([rng.uniform(-60, 60, 5), rng.uniform(-20, 20, 5), rng.uniform(-10, 10, 5)])
+    logged = pk.write_rotation(pk.read_rotation(angles, "euler", CONV), "quaternion", "scalar=last")
+    return DebugDesk(observed=logged, expected=angles, expected_kind="euler", convention=CONV), logged
+
+
+def test_a_bad_paste_clears_the_chart_and_says_so():
+    desk, logged = _pairs_desk()
+    assert desk.residual_figure is not None and desk.residual_box.layout.display is None
+    assert [int(v) for v in desk.residual_figure.data[0].x] == [1, 2, 3, 4, 5]   # pairs numbered from 1
+    good = desk.pasted
+    desk.paste_box.value = good + "\n0.1 0.2 banana 0.4"
+    assert desk.diagnosis is None
+    assert desk.residual_figure is None and desk.residual_box.children == ()
+    assert desk.residual_box.layout.display == "none"
+    assert desk.explanation_list.options == () and desk.code_box.value == ""
+    assert "nothing from an earlier input is kept on show" in desk.detail.value
+    assert "the &#x27;numbers you got&#x27; box, line 6" in desk.understood.value.replace("'", "&#x27;")
+    desk.paste_box.value = good
+    assert desk.residual_figure is not None and desk.diagnosis is not None
+
+
+def test_messages_name_the_desk_boxes_not_python_functions():
+    desk, logged = _pairs_desk()
+    desk.expected_box.value = "\n".join(desk.expected_text.splitlines()[:2])   # 2 expected poses, 5 lines got
+    assert desk.diagnosis is None
+    shown = html.unescape(desk.detail.value)
+    assert "the 'numbers you got' box has 5 lines but the 'pose you expected' box has 2 poses" in shown
+    assert "diagnose" not in shown
+    one = DebugDesk(pasted="0 0 0 1", expected="0 0 0\n10 0 0", convention=CONV)
+    shown = html.unescape(one.detail.value)
+    assert "holds 2 poses but 'one pose' is chosen" in shown and "diagnose" not in shown
+    uneven = DebugDesk(pasted="0 0 0 1\n0 0 0", pairs="many", expected="0 0 0", convention=CONV)
+    shown = html.unescape(uneven.understood.value)
+    assert "the 'numbers you got' box: line 2 holds 3 numbers but line 1 holds 4" in shown
+
+
+def test_one_pair_is_said_in_the_singular():
+    desk = DebugDesk(pasted="0 0 0 1", pairs="many", expected="0 0 0", convention=CONV)
+    assert "1 pair: 1 line of 4 numbers each" in desk.understood.value
+
+
+def test_a_state_written_before_the_expected_reading_field_still_loads(desk):
+    state = desk.to_state()
+    old = dict(state.settings)
+    old.pop("expected_override")
+    rebuilt = DebugDesk.from_state(State(state.widget, old, state.poses, state.edges, state.notes))
+    assert rebuilt.expected_override == "none" and rebuilt.pasted == desk.pasted
+    with pytest.raises(pk.PoseInputError, match="expected_override"):
+        DebugDesk(expected_override="unit=furlongs")

@@ -414,3 +414,86 @@ def test_small_constant_offset_is_not_snapped_to_the_identity():
     offset = result.offset
     assert offset is not None and offset.snapped_remap is None
     assert "no axis remap" in offset.sentence and "0-degree" not in offset.sentence
+
+
+# --- the unit nobody stated, and the guess said back as values ---------------------------------------
+
+def test_unstated_observed_angles_are_degrees_so_no_slip_comes_first():
+    d = diagnose("yawed 90 degrees left", "90 0 0")
+    assert d.explained and d.best.deviations == 0
+    assert d.verdict == "The numbers match the expected pose as you read them: no convention error."
+    assert "in degrees" in d.assumed_reading and "unit=degrees" in d.assumed_reading   # read so, not stated
+    # radians typed without a unit: the slip is named, and a note says the magnitudes looked like radians
+    rad = diagnose("yawed 90 degrees left", "1.5707963268 0 0")
+    assert rad.best.sentence == "The angles were written in radians but read as degrees."
+    assert any("look like radians" in n for n in rad.notes)
+    np.testing.assert_allclose(rad.best.corrected_numbers, [90, 0, 0], atol=1e-8)   # degrees, as read
+
+
+def test_unstated_expected_angles_are_degrees_and_the_other_unit_is_scored():
+    ref = Rotation.from_euler("ZYX", [30, -10, 5], degrees=True).as_matrix()   # scipy: intrinsic ZYX
+    e = expected_pose("30 -10 5")
+    assert np.allclose(e.rotation, ref)
+    (r2, _, dev, words), = e.alternatives
+    assert np.allclose(r2, Rotation.from_euler("ZYX", [30, -10, 5]).as_matrix())   # scipy: radians
+    assert dev == 3.0 and "radians" in words          # beyond 2 pi: radians is implausible, charged more
+    small = expected_pose("0.5 0.2 0.1")
+    assert np.allclose(small.rotation, Rotation.from_euler("ZYX", [0.5, 0.2, 0.1], degrees=True).as_matrix())
+    assert small.alternatives[0][2] == 0.5          # fractions within 2 pi point to radians: charged less
+    whole = expected_pose("5 0 0")
+    assert whole.alternatives[0][2] == 1.0 and whole.guess.suggests is None
+    # a stated unit is not second-guessed
+    assert expected_pose("0.5 0.2 0.1", convention="unit=radians").alternatives == ()
+
+
+@pytest.mark.parametrize("text, kind, count, alternatives", [
+    ("30 -10 5", "euler", 3, [("kind", "rotation-vector"), ("unit", "radians")]),
+    ("0 0 0 1", "quaternion", 4, [("scalar", "last")]),
+    ("1 2 3 10 20 30", "position-euler", 6, [("kind", "position-rotation-vector"), ("unit", "radians")]),
+    ("1 2 3 0 0 0 1", "position-quaternion", 7, [("scalar", "last")]),
+    ("1 0 0 0 1 0 0 0 1", "matrix", 9, [("layout", "column-major")]),
+    ("1 0 0 0 0 1 0 -1 0 0 1 0", "transform", 12, [("layout", "column-major")]),   # a rotation both ways
+    (" ".join(map(str, np.eye(4).ravel())), "transform", 16, [("layout", "column-major")]),
+])
+def test_the_guess_names_kind_count_and_the_other_readings(text, kind, count, alternatives):
+    g = expected_pose(text).guess
+    assert (g.source, g.kind, g.count, g.kind_from) == ("numbers", kind, count, "count")
+    assert [(c.field, c.value) for c in g.alternatives] == alternatives
+    # every alternative, passed back as its kind and convention, reads the input that way
+    for c in g.alternatives:
+        again = expected_pose(text, c.kind, c.convention).guess
+        assert again.kind == c.kind
+        if c.field != "kind":
+            assert getattr(pk_convention(c.convention), c.field) == c.value
+            assert c.field in c.convention
+
+
+def pk_convention(text):
+    from posekit.core.convention import Convention
+
+    return Convention.parse(text)
+
+
+def test_the_guess_line_and_note_in_words():
+    g = expected_pose("30 -10 90").guess
+    assert g.line() == "read as: Euler angles z-y-x in degrees (from 3 numbers; magnitudes up to 90)"
+    assert g.note() == "" and g.unit_from == "default" and g.largest == 90
+    g = expected_pose("0.2 0.1 -0.3").guess
+    assert g.suggests == "radians" and "look like radians" in g.note() and "no unit typed" in g.line()
+    g = expected_pose("30 0 0", convention="unit=radians").guess
+    assert g.suggests == "degrees" and g.unit_from == "stated" and "beyond 2 pi" in g.note()
+    assert expected_pose("yaw=10 pitch=20 roll=30").guess.line().startswith(
+        "read as: Euler angles z-y-x in degrees (from the names yaw, pitch, roll")
+    assert expected_pose("pitched 10 degrees down").guess.source == "words"
+
+
+def test_expected_rows_reads_every_row_as_one_pose():
+    from posekit.analysis.diagnose import expected_rows
+
+    angles = np.array([[30.0, -10.0, 5.0], [0.0, 0.0, 90.0], [5.0, 0.0, 0.0]])   # 3 x 3, yet no matrix
+    e = expected_rows(angles)
+    assert e.rotation.shape == (3, 3, 3) and e.guess.kind == "euler" and e.guess.count == 3
+    assert np.allclose(e.rotation, Rotation.from_euler("ZYX", angles, degrees=True).as_matrix())  # scipy
+    truth = Rotation.from_euler("ZYX", angles, degrees=True)
+    b = diagnose_batch(angles, truth.as_quat())                                # scipy: scalar last
+    assert b.best.sentence == "The quaternion was written scalar-last but read scalar-first."

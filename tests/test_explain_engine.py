@@ -80,12 +80,15 @@ def test_every_reading_said_is_convention_text_posekit_reads():
     assert data["stated_reading"]["convention"] and data["expected_reading"].startswith("expected")
 
 
-@pytest.mark.parametrize("text, unit", [("10 20 30", "degrees"), ("0.1 0.2 -0.3", "radians"),
+# one default unit everywhere: typed angles without a unit read as degrees (small fractions get a note)
+@pytest.mark.parametrize("text, unit", [("10 20 30", "degrees"), ("0.1 0.2 -0.3", "degrees"),
                                         ("yaw=10 pitch=20 roll=30", "degrees"), ("[10, 20, 30]", "degrees")])
 def test_the_expected_unit_is_said_back_and_both_are_scored(text, unit):
     rot = Rotation.from_quat([0.1, 0.2, 0.3, 0.9])                      # scipy: any turn, scalar last
     d = diagnose(text, _text(rot.as_quat()))
     assert f"read as {unit}" in d.expected_reading and "scored too" in d.expected_reading
+    if text.startswith("0.1"):
+        assert "look like radians" in d.expected_reading
     stated = diagnose(text + ("" if "=" in text else f" {unit}"), _text(rot.as_quat()),
                       expected_convention=None if "=" not in text else f"unit={unit}")
     assert stated.hypotheses_scored * 2 == d.hypotheses_scored           # a stated unit is not second-guessed
@@ -194,7 +197,8 @@ def test_an_expected_matrix_printed_with_six_digits_is_read_not_refused():
 def test_the_expected_kind_is_honoured_for_named_values():
     rv = np.array([1.2, -0.3, 0.5])
     q = Rotation.from_rotvec(rv).as_quat(scalar_first=True)                     # scipy: rotation vector
-    d = diagnose("rx=1.2 ry=-0.3 rz=0.5", _text(q), expected_kind="rotation-vector")
+    d = diagnose("rx=1.2 ry=-0.3 rz=0.5", _text(q), expected_kind="rotation-vector",
+                 expected_convention="unit=radians")
     assert d.explained and d.best.deviations == 0 and "rotation vector" in d.expected_reading
 
 

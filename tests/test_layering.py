@@ -74,8 +74,8 @@ LAYERS = {
     "io": ({"numpy"}, {"core"}),
     "explain": ({"numpy"}, {"core", "io"}),
     "analysis": ({"numpy", "scipy"}, {"core", "io", "explain"}),
-    "view": ({"numpy", "scipy", "plotly"}, {"core", "io", "explain", "analysis"}),
-    "widgets": ({"numpy", "scipy", "plotly", "ipywidgets", "anywidget", "traitlets", "IPython"},
+    "view": ({"numpy", "scipy", "plotly", "jinja2"}, {"core", "io", "explain", "analysis"}),
+    "widgets": ({"numpy", "scipy", "plotly", "jinja2", "ipywidgets", "anywidget", "traitlets", "IPython"},
                 {"core", "io", "explain", "analysis", "view"}),
 }
 

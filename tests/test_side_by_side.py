@@ -28,9 +28,11 @@ from posekit.analysis import euler_solutions, sweep_between, sweep_one_angle, sw
 from posekit.core.convention import CHOICES
 from posekit.core.errors import ConventionError, PoseInputError
 from posekit.core.rotation import elementary_matrix
+from posekit.view.frames import trace_index
 from posekit.view.sweep import (FAMILY_TRACES, SWEEP_TRACES, SweepViewError, angle_name, family_data, family_figure,
                                 step_marks, sweep_figure, sweep_patch)
 from posekit.widgets import SingularityView
+from posekit.view.readouts import format_number
 from posekit.widgets.side_by_side import MAX_STEPS, SweepSetupError
 
 BASE = [pk.Convention(sequence=s, axes=a, unit="degrees")
@@ -55,8 +57,13 @@ def _through_pole(conv, steps=41):
     return sweep_one_angle(held, 1, values, conv)
 
 
-def _y(fig, idx):
-    return np.array([np.nan if v is None else v for v in fig.data[idx].y], dtype=float)
+def _tr(fig, uid):
+    """The trace with this uid, looked up (never by position)."""
+    return fig.data[trace_index(fig, uid)]
+
+
+def _y(fig, uid):
+    return np.array([np.nan if v is None else v for v in _tr(fig, uid).y], dtype=float)
 
 
 # --- the figure is the sweep -----------------------------------------------------------------
@@ -66,7 +73,7 @@ def test_figure_data_equals_the_sweep_arrays(conv):
     fig = sweep_figure(s, 7, parameter_label=angle_name(conv, 1, unit=True))
     t = SWEEP_TRACES
     for i, idx in enumerate(t["euler"]):
-        np.testing.assert_array_equal(fig.data[idx].x, s.parameter)
+        np.testing.assert_array_equal(_tr(fig, idx).x, s.parameter)
         np.testing.assert_array_equal(_y(fig, idx), s.euler[:, i])
     for i, idx in enumerate(t["quaternion"]):
         np.testing.assert_array_equal(_y(fig, idx), s.quaternion[:, i])
@@ -75,8 +82,8 @@ def test_figure_data_equals_the_sweep_arrays(conv):
     np.testing.assert_array_equal(_y(fig, t["gauge"]), s.gauge)
     # legend names follow the convention: scalar order, axis letters
     order = ["w", "x", "y", "z"] if conv.scalar == "first" else ["x", "y", "z", "w"]
-    assert [fig.data[i].name for i in t["quaternion"]] == order
-    assert [fig.data[i].name[:10] for i in t["euler"]] == [f"{i + 1}: about {a}" for i, a in
+    assert [_tr(fig, i).name for i in t["quaternion"]] == order
+    assert [_tr(fig, i).name[:10] for i in t["euler"]] == [f"{i + 1}: about {a}" for i, a in
                                                            enumerate(conv.axes_letters)]
     unit = "degrees" if conv.degrees else "radians"
     assert fig.layout.xaxis4.title.text.endswith(unit) and fig.layout.yaxis.title.text == f"angle, {unit}"
@@ -89,22 +96,22 @@ def test_current_step_marks_sit_on_the_curves(conv):
         fig = sweep_figure(s, k)
         p = s.parameter[k]
         assert fig.layout.shapes[0].x0 == fig.layout.shapes[0].x1 == p
-        assert fig.layout.annotations[4].text == f"step {k} at {p:.6g}"
-        np.testing.assert_array_equal(fig.data[SWEEP_TRACES["euler_now"]].y, s.euler[k])
-        np.testing.assert_array_equal(fig.data[SWEEP_TRACES["quaternion_now"]].y, s.quaternion[k])
-        np.testing.assert_array_equal(fig.data[SWEEP_TRACES["matrix_now"]].y, s.matrix[k].reshape(9))
-        np.testing.assert_array_equal(fig.data[SWEEP_TRACES["gauge_now"]].y, [s.gauge[k]])
-        assert set(fig.data[SWEEP_TRACES["euler_now"]].x) == {p}
+        assert fig.layout.annotations[4].text == f"step {k} at {format(p, '.6f').rstrip('0').rstrip('.')}"
+        np.testing.assert_array_equal(_tr(fig, SWEEP_TRACES["euler_now"]).y, s.euler[k])
+        np.testing.assert_array_equal(_tr(fig, SWEEP_TRACES["quaternion_now"]).y, s.quaternion[k])
+        np.testing.assert_array_equal(_tr(fig, SWEEP_TRACES["matrix_now"]).y, s.matrix[k].reshape(9))
+        np.testing.assert_array_equal(_tr(fig, SWEEP_TRACES["gauge_now"]).y, [s.gauge[k]])
+        assert set(_tr(fig, SWEEP_TRACES["euler_now"]).x) == {p}
     # the patch a widget applies is the figure's own data
     marks = step_marks(s, 9)
     patched = sweep_figure(s, 0)
-    for idx, data in marks["traces"].items():
-        patched.data[idx].update(data)
+    for uid, data in marks["traces"].items():
+        patched.for_each_trace(lambda tr: tr.update(data), selector=dict(uid=uid))
     patched.update_layout(marks["layout"])
     ref = sweep_figure(s, 9)
     assert patched.layout.shapes[0].x0 == ref.layout.shapes[0].x0
-    for idx in marks["traces"]:
-        np.testing.assert_array_equal(patched.data[idx].y, ref.data[idx].y)
+    for uid in marks["traces"]:
+        np.testing.assert_array_equal(_tr(patched, uid).y, _tr(ref, uid).y)
 
 
 def _bands(fig, yref):
@@ -144,7 +151,7 @@ def test_written_quaternion_flips_and_matrix_jumps_get_their_own_bands():
 def test_a_slerp_sweep_draws_too():
     s = sweep_between(np.eye(3), elementary_matrix("y", 3.0), 31, "sequence=z-y-x")
     fig = sweep_figure(s, 15, parameter_label="slerp fraction, 0 to 1")
-    np.testing.assert_array_equal(fig.data[0].x, s.parameter)
+    np.testing.assert_array_equal(_tr(fig, "euler-1").x, s.parameter)
     assert fig.layout.xaxis4.title.text == "slerp fraction, 0 to 1"
 
 
@@ -152,7 +159,7 @@ def test_a_slerp_sweep_draws_too():
 def test_lines_of_one_panel_differ_in_dash_or_marker():
     fig = sweep_figure(_through_pole(BASE[0]))
     for key in ("euler", "quaternion", "matrix"):
-        styles = [(fig.data[i].line.dash, fig.data[i].marker.symbol) for i in SWEEP_TRACES[key]]
+        styles = [(_tr(fig, i).line.dash, _tr(fig, i).marker.symbol) for i in SWEEP_TRACES[key]]
         assert len(set(styles)) == len(styles), (key, styles)
     fam = family_figure(euler_solutions(_through_pole(BASE[0]).rotation, BASE[0]), 20)
     shapes = [(t.mode, t.marker.symbol) for t in fam.data]
@@ -166,7 +173,7 @@ def test_every_drawn_family_point_is_the_same_orientation(conv):
     sol = euler_solutions(s.rotation, conv)
     k = int(np.flatnonzero(sol.at_pole)[0])
     fig = family_figure(sol, k)
-    fam = fig.data[FAMILY_TRACES["family"]]
+    fam = _tr(fig, FAMILY_TRACES["family"])
     pts = np.array([(a, b) for a, b in zip(fam.x, fam.y) if a is not None], dtype=float)
     assert len(pts) == sol.family.shape[-2]
     triplets = np.stack([pts[:, 0], np.full(len(pts), sol.pole_middle[k]), pts[:, 1]], axis=-1)
@@ -176,9 +183,9 @@ def test_every_drawn_family_point_is_the_same_orientation(conv):
     for (a, b), (c, d) in zip(zip(fam.x, fam.y), list(zip(fam.x, fam.y))[1:]):
         if None not in (a, b, c, d):
             assert abs(d - b) <= half
-    read = fig.data[FAMILY_TRACES["readback"]]
+    read = _tr(fig, FAMILY_TRACES["readback"])
     assert (read.x[0], read.y[0]) == (s.euler[k, 0], s.euler[k, 2])
-    assert fig.data[FAMILY_TRACES["other"]].x == ()
+    assert _tr(fig, FAMILY_TRACES["other"]).x == ()
     assert "only first" in family_data(sol, k)["note"]
 
 
@@ -188,7 +195,7 @@ def test_away_from_the_pole_the_other_triplet_is_drawn_and_the_nearest_family_ke
     sol = euler_solutions(s.rotation, conv)
     pole = int(np.flatnonzero(sol.at_pole)[0])
     d = family_data(sol, pole - 3)
-    assert d["family_step"] == pole and d["traces"][0]["name"].endswith(f"(step {pole})")
+    assert d["family_step"] == pole and d["traces"][FAMILY_TRACES["family"]]["name"].endswith(f"(step {pole})")
     other = d["traces"][FAMILY_TRACES["other"]]
     triplet = sol.regular[pole - 3, 1]
     assert (other["x"][0], other["y"][0]) == (triplet[0], triplet[2])
@@ -196,7 +203,7 @@ def test_away_from_the_pole_the_other_triplet_is_drawn_and_the_nearest_family_ke
     # a sweep that never reaches the pole draws no family line
     far = sweep_one_angle([0, 0, 0], 1, np.linspace(-30, 30, 7), "unit=degrees")
     d = family_data(euler_solutions(far.rotation, far.convention), 3)
-    assert d["family_step"] is None and d["traces"][0]["x"] == []
+    assert d["family_step"] is None and d["traces"][FAMILY_TRACES["family"]]["x"] == []
 
 
 # --- bad input raises typed errors -------------------------------------------------------------
@@ -251,12 +258,11 @@ def test_widget_readouts_equal_write_rotation_of_the_sweep_rotation(conv):
         html = view.readouts.value
         for values, digits in ((r.euler, 4), (r.matrix.reshape(9), 4), (r.quaternion, 5)):
             for v in values:
-                v = 0.0 if abs(v) < 0.5 * 10.0 ** -digits else v
-                assert f"{v: .{digits}f}".strip() in html
+                assert f">{format_number(v, digits)}</td>" in html
         # the figures show the same step
         assert view.figure.layout.shapes[0].x0 == s.parameter[k]
-        np.testing.assert_array_equal(view.figure.data[SWEEP_TRACES["euler_now"]].y, s.euler[k])
-        fam = view.family.data[FAMILY_TRACES["readback"]]
+        np.testing.assert_array_equal(_tr(view.figure, SWEEP_TRACES["euler_now"]).y, s.euler[k])
+        fam = _tr(view.family, FAMILY_TRACES["readback"])
         assert (fam.x[0], fam.y[0]) == (s.euler[k, 0], s.euler[k, 2])
 
 
@@ -265,10 +271,11 @@ def _check_figures(view):
     conv = view.convention_value()
     s = view.sweep()
     ref = sweep_figure(s, view.position, parameter_label=angle_name(conv, view.swept, unit=True))
-    for idx in range(len(ref.data)):
-        np.testing.assert_array_equal(view.figure.data[idx].x, ref.data[idx].x)
-        np.testing.assert_array_equal(view.figure.data[idx].y, ref.data[idx].y)
-        assert view.figure.data[idx].name == ref.data[idx].name
+    assert [tr.uid for tr in view.figure.data] == [tr.uid for tr in ref.data]  # the widget keeps the uids
+    for uid in (tr.uid for tr in ref.data):
+        np.testing.assert_array_equal(_tr(view.figure, uid).x, _tr(ref, uid).x)
+        np.testing.assert_array_equal(_tr(view.figure, uid).y, _tr(ref, uid).y)
+        assert _tr(view.figure, uid).name == _tr(ref, uid).name
     assert [(sh.x0, sh.x1) for sh in view.figure.layout.shapes] == [(sh.x0, sh.x1) for sh in ref.layout.shapes]
     assert [a.text for a in view.figure.layout.annotations] == [a.text for a in ref.layout.annotations]
     for axis in ("yaxis", "xaxis4"):
@@ -276,8 +283,8 @@ def _check_figures(view):
         assert (mine.title.text, mine.tickvals, mine.ticktext, mine.range) == \
             (theirs.title.text, theirs.tickvals, theirs.ticktext, theirs.range)
     fam = family_figure(view.solutions(), view.position)
-    for idx in range(3):
-        assert view.family.data[idx].x == fam.data[idx].x and view.family.data[idx].y == fam.data[idx].y
+    for uid in FAMILY_TRACES.values():
+        assert _tr(view.family, uid).x == _tr(fam, uid).x and _tr(view.family, uid).y == _tr(fam, uid).y
     for axis in ("xaxis", "yaxis"):
         assert view.family.layout[axis].title.text == fam.layout[axis].title.text
         assert view.family.layout[axis].ticktext == fam.layout[axis].ticktext
@@ -287,10 +294,10 @@ def test_widget_figures_follow_every_sweep_change():
     view = SingularityView(angles=(30.0, 0.0, 20.0), position=10)
     check = lambda: _check_figures(view)  # noqa: E731
     check()
-    view.angle_rows[0].box.value = 45.0          # a held angle, typed
+    view.angle_rows[0].box.value = "45"          # a held angle, typed (the box's text)
     assert view.angles == (45.0, 0.0, 20.0)
     check()
-    view.range_to.value = 100.0                  # the range, typed
+    view.range_to.value = "100"                  # the range, typed
     assert view.sweep_range == (60.0, 100.0)
     check()
     view.steps_box.value = 9                     # fewer steps: the position is kept in range
@@ -298,7 +305,7 @@ def test_widget_figures_follow_every_sweep_change():
     check()
     view.bar.controls["scalar"].value = "last"   # quaternion order: same sweep, new names
     check()
-    assert [view.figure.data[i].name for i in SWEEP_TRACES["quaternion"]] == ["x", "y", "z", "w"]
+    assert [_tr(view.figure, i).name for i in SWEEP_TRACES["quaternion"]] == ["x", "y", "z", "w"]
 
 
 def test_unit_change_keeps_the_orientation_and_sequence_change_follows_the_pole():
@@ -310,7 +317,7 @@ def test_unit_change_keeps_the_orientation_and_sequence_change_follows_the_pole(
     np.testing.assert_allclose(view.angles, np.radians([30.0, 0.0, 20.0]), atol=1e-15)
     # fresh sliders in the new unit; a late echo from the old degree slider changes nothing
     row = view.angle_rows[0]
-    assert row is not old_row and (row.slider.step, row.box.value) == (0.01, view.angles[0])
+    assert row is not old_row and (row.slider.step, row.box.number) == (0.01, view.angles[0])
     angles = view.angles
     old_row.slider.value = 1.0
     assert view.angles == angles
@@ -355,7 +362,7 @@ def test_position_slider_and_snap_echo():
     view = SingularityView(angles=(30.0, 0.0, 20.0))
     view.position_slider.value = 12              # the page moved the slider
     assert view.position == 12
-    view.angle_rows[0].box.value = 30.4          # off the slider's 1-degree grid
+    view.angle_rows[0].box.value = "30.4"        # off the slider's 1-degree grid
     view.angle_rows[0].slider.value = 30.0       # the page snaps the slider and echoes it back
     assert view.angles[0] == 30.4
     view.angle_rows[0].slider.value = 33.0       # a real slider move
@@ -400,5 +407,20 @@ def test_bad_widget_inputs_raise_typed_errors():
     with pytest.raises(SweepSetupError):
         view.sweep_range = (1.0, 1.0)
     # a bad range typed into the boxes is refused in words, nothing applied
-    view.range_to.value = 60.0
+    view.range_to.value = "60"
     assert view.sweep_range == (60.0, 120.0) and "Not applied" in view.status.value
+    assert "pk-error" in view.status.value   # a box that wraps its words inside the widget
+
+
+def test_ticks_read_in_the_axis_unit_even_for_a_tiny_sweep():
+    # a sweep a few thousandths of a degree wide: plotly's default tick labels would use SI prefixes
+    # ("600\u03bc"), which change the unit an axis titled in degrees claims; powers of ten keep it
+    s = sweep_one_angle([30, 0, 20], 1, np.linspace(89.999, 90.001, 21), "unit=degrees")
+    fig = sweep_figure(s, 3)
+    for axis in ("xaxis", "xaxis2", "xaxis3", "xaxis4", "yaxis", "yaxis2", "yaxis3", "yaxis4"):
+        assert fig.layout[axis].exponentformat == "power", axis
+    assert fig.layout.xaxis4.title.text == "sweep parameter"
+    assert sweep_figure(s, 3, parameter_label=angle_name(s.convention, 1, unit=True)).layout.xaxis4.title.text \
+        .endswith(", degrees")
+    fam = family_figure(euler_solutions(s.rotation, s.convention), 3)
+    assert fam.layout.xaxis.exponentformat == fam.layout.yaxis.exponentformat == "power"

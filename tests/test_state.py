@@ -304,7 +304,7 @@ def test_the_round_trip_strategy_covers_every_widget_kind_and_edge_kind():
     """The generator above is not vacuous: it reaches every widget kind and every edge kind."""
     seen_widgets, seen_kinds = set(), set()
 
-    @settings(max_examples=200, deadline=None, derandomize=True, database=None,
+    @settings(max_examples=600, deadline=None, derandomize=True, database=None,
               suppress_health_check=[HealthCheck.too_slow])
     @given(valid_states())
     def collect(state):

@@ -16,11 +16,21 @@ import posekit as pk
 from posekit.io.state import state_from_json, state_to_json
 from posekit.analysis.trajectory import check_trajectory
 from posekit.desk_scenarios import row_drive
-from posekit.view.frames import frame_points
-from posekit.view.trajectory import FLAG_STYLES, flagged_spans, row_rotation, trajectory_figure
+from posekit.view.frames import FRAME_UIDS, frame_points, overlay_uid, trace_index
+from posekit.view.trajectory import (FLAG_STYLES, HIGHLIGHT, flag_uid, flagged_spans, row_rotation, span_shape,
+                                     trajectory_figure)
 from posekit.widgets import TrajectoryView
 
 CONV = "sequence=z-y-x unit=degrees"
+
+
+def _tr(fig, uid):
+    """The trace with this uid, looked up (never by position)."""
+    return fig.data[trace_index(fig, uid)]
+
+
+def _shape(fig, name):
+    return next(fig.select_shapes(selector=dict(name=name)))
 
 
 def _drive():
@@ -55,28 +65,37 @@ def test_figure_holds_the_report_numbers(drive):
     spans, _ = flagged_spans(report)
     fig = trajectory_figure(report, spans=spans)
     for k in range(3):
-        np.testing.assert_array_equal(fig.data[k].y, report.euler_wrapped[:, k])
+        np.testing.assert_array_equal(_tr(fig, f"euler-{k + 1}").y, report.euler_wrapped[:, k])
     for k in range(4):
-        np.testing.assert_array_equal(fig.data[3 + k].y, report.quaternion[:, k])
-    np.testing.assert_array_equal(fig.data[7].y, report.rate)
-    # one shaded box per span (covering its times) plus the hidden highlight box
+        np.testing.assert_array_equal(_tr(fig, f"quaternion-{k + 1}").y, report.quaternion[:, k])
+    np.testing.assert_array_equal(_tr(fig, "rate").y, report.rate)
+    # one shaded box per span (covering its times, named after it) plus the hidden highlight box
     assert len(fig.layout.shapes) == len(spans) + 1
-    for s, box in zip(spans, fig.layout.shapes):
+    for n, s in enumerate(spans):
+        box = _shape(fig, span_shape(n))
         assert box.x0 <= s.first_time and box.x1 >= s.last_time
-    assert fig.layout.shapes[-1].visible is False
+    assert _shape(fig, HIGHLIGHT).visible is False
     # the strip: each finding kind its own symbol and word, customdata pointing back at the span
-    for trace in fig.data[9:]:
+    for name in FLAG_STYLES:
+        trace = _tr(fig, flag_uid(name))
+        assert trace.name == FLAG_STYLES[name][0]
         for idx in trace.customdata or ():
-            assert FLAG_STYLES[spans[idx].finding][0] == trace.name
+            assert spans[idx].finding == name
     # the rate limit from the report's settings is drawn
-    assert fig.data[8].name == "rate limit" and list(fig.data[8].y) == [100.0, 100.0]
+    assert _tr(fig, "rate-limit").name == "rate limit" and list(_tr(fig, "rate-limit").y) == [100.0, 100.0]
+    # every axis carries its unit; ticks never use SI prefixes (a "600\u03bc" tick would change the unit)
+    assert fig.layout.yaxis.title.text == "deg" and fig.layout.yaxis3.title.text == "deg per time unit"
+    assert fig.layout.xaxis4.title.text == "time (time units)"
+    assert trajectory_figure(report, spans=spans, time_unit="s").layout.xaxis4.title.text == "time (s)"
+    for axis in ("xaxis", "yaxis", "xaxis3", "yaxis3", "xaxis4"):
+        assert fig.layout[axis].exponentformat == "power", axis
 
 
 def test_choosing_a_span_shows_that_pose(drive):
     _, q, report = drive
     view = TrajectoryView(report)
     assert view.shown_rows() == (None, None)
-    assert not view.pose_figure.data[1].visible
+    assert not _tr(view.pose_figure, FRAME_UIDS["frame"]).visible
     flips = [k for k, s in enumerate(view.spans) if s.finding == "quaternion_sign_flips"]
     view.span_list.value = flips[0]         # keyboard choice in the list
     row, prev = view.shown_rows()
@@ -85,18 +104,21 @@ def test_choosing_a_span_shows_that_pose(drive):
     got = row_rotation(report, row)
     assert np.degrees(pk.angle_between(want, got)) < 1e-9
     xs, ys, zs = frame_points(got)
-    assert list(view.pose_figure.data[1].x) == xs and list(view.pose_figure.data[1].z) == zs
+    frame = _tr(view.pose_figure, FRAME_UIDS["frame"])
+    assert frame.name == "pose at the span" and list(frame.x) == xs and list(frame.z) == zs
     xs, ys, zs = frame_points(row_rotation(report, prev))
-    assert list(view.pose_figure.data[3].y) == ys
-    box = view.series.layout.shapes[-1]
-    assert box.visible and box.x0 == view.series.layout.shapes[flips[0]].x0
+    before = _tr(view.pose_figure, overlay_uid(0))
+    assert before.name == "one used row before" and list(before.y) == ys
+    box = _shape(view.series, HIGHLIGHT)
+    assert box.visible and box.x0 == _shape(view.series, span_shape(flips[0])).x0
     assert "row 20" in view.detail.value
 
 
 def test_clicking_a_strip_marker_chooses_its_span(drive):
     _, _, report = drive
     view = TrajectoryView(report)
-    trace = next(t for t in view.series.data[9:] if t.name == "time gap")
+    trace = _tr(view.series, flag_uid("time_gaps"))
+    assert trace.name == "time gap"
     view._on_click(trace, Points(point_inds=[0], xs=[trace.x[0]], ys=[trace.y[0]], trace_name=trace.name,
                                  trace_index=0), None)
     span = view.spans[view.chosen_span]
@@ -110,7 +132,7 @@ def test_euler_input_has_no_quaternion_to_follow():
     angles = np.column_stack([heading, np.zeros(30), np.zeros(30)])
     report = check_trajectory(t, angles, "euler", CONV)
     fig = trajectory_figure(report)
-    assert all(len(fig.data[3 + k].x) == 0 for k in range(4))
+    assert all(len(_tr(fig, f"quaternion-{k + 1}").x) == 0 for k in range(4))
     assert any("not quaternions" in (a.text or "") for a in fig.layout.annotations)
     view = TrajectoryView(report)
     wrap = next(k for k, s in enumerate(view.spans) if s.finding == "euler_wraps")
@@ -118,6 +140,21 @@ def test_euler_input_has_no_quaternion_to_follow():
     row = view.shown_rows()[0]
     assert np.degrees(pk.angle_between(row_rotation(report, row),
                                        pk.read_rotation(angles[row], "euler", CONV))) < 1e-9
+
+
+def test_clicks_still_choose_a_span_after_the_plot_is_shown_again(drive):
+    _, _, report = drive
+    view = TrajectoryView(report)
+    old = view.series
+    view.series_plot.retry()                 # what the "show the plot again" button asks for
+    assert view.series is not old and view.series_plot.attempts == 2
+    assert [t.uid for t in view.series.data] == [t.uid for t in old.data]
+    i = trace_index(view.series, flag_uid("time_gaps"))
+    trace = view.series.data[i]
+    # the click message as the page sends it to the new figure
+    view.series.set_state({"_js2py_pointsCallback": {"event_type": "plotly_click", "points": {
+        "trace_indexes": [i], "point_indexes": [0], "xs": [trace.x[0]], "ys": [trace.y[0]]}}})
+    assert view.chosen_span >= 0 and view.spans[view.chosen_span].finding == "time_gaps"
 
 
 def test_state_round_trip(drive):

@@ -44,3 +44,4 @@ __all__ += ["FrameGraph", "Edge", "Step", "Lookup", "Readout", "Placement", "Fra
             "LoopCheck", "FrameGraphError", "UnknownFrameError", "FrameNameError", "DisconnectedFramesError",
             "DisagreeingEdgeError", "LoopInTreeError", "read_planar", "write_planar", "orchard_rover",
             "orchard_rover_planar"]
+from .alignment import *; from .alignment import __all__ as _alignment_names; __all__ += _alignment_names  # noqa: E402,F401,F403,E702 (two sensors on one body)

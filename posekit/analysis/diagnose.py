@@ -11,9 +11,13 @@ kind, count and layout, so they paste back) and a runnable snippet.
 
 The expected side is a reading too: bare numbers, named angles (``yaw=10 pitch=20
 roll=30``), lists, numbers with a unit word (``10 20 30 degrees``), or a description
-in words.  What it was read as is said back in one line (``expected_reading``).  When
-the angle unit was not stated, both units are scored and the one the magnitudes make
-implausible (beyond 2 pi as radians, common practice) is charged one deviation.
+in words.  What it was read as is said back in one line (``expected_reading``) and as
+values (``ExpectedPose.guess``: kind, unit, on what grounds, and the other readings one
+choice away).  Angles typed without a unit -- expected or observed -- are read in
+degrees (:data:`TYPED_UNIT`, what people type; the core's canonical unit stays radians);
+the other unit is scored too, charged more when the magnitudes rule it out (radians
+beyond 2 pi, common practice) and less when they point to it, and a note says so
+whenever the magnitudes suggest the unit not read.
 
 The prior is written once, in :mod:`posekit.explain.slips` (``PRIOR_TEXT`` says it in
 words).  When even the best explanation leaves a residual above the tolerances, the
@@ -32,22 +36,23 @@ import numpy as np
 from ..core import rotation as rot
 from ..core.checks import (ORTHONORMAL_TOLERANCE, as_numbers, checked_count, checked_matrix, checked_tolerance,
                            nearest_rotation, orthonormality_error, require_magnitude, require_representable_angles)
-from ..core.convention import DEFAULT, Convention
+from ..core.convention import CHOICES, DEFAULT, Convention
 from ..core.errors import (NotOrthonormalError, PoseInputError, WrongShapeError, WrongTypeError, ZeroQuaternionError,
                            summarise)
 from ..core.reading import as_convention, read_rotation, write_rotation  # noqa: F401 (doctest)
 from ..core.transforms import Pose, read_transform
 from ..explain import (PRIOR_WEIGHT, REMAPS, STATED_COST, Candidate, ExpectedSide, Reading, describe_remap,
                        fix_code, readings_of, score, sentence, stated_fields, stated_reading, write_numbers)
-from ..explain.readings import read_numbers, split_numbers
+from ..explain.readings import COUNTS, read_numbers, split_numbers
 from ..explain.scorer import det3
 from ..io.limits import PASTE_LIMIT, check_text_size
 from ..io.paste import Interpretation, NoInterpretationError, ParsedNumbers, parse_numbers
 from ..io.words import DescriptionError, read_description
 
-__all__ = ["PRIOR_WEIGHT", "PRIOR_TEXT", "DescriptionError", "ExpectedPose", "Explanation", "Diagnosis",
-           "BatchDiagnosis", "ConstantOffset", "axis_remaps", "describe_remap", "pose_from_words", "expected_pose",
-           "diagnose", "diagnose_batch", "average_rotation"]
+__all__ = ["PRIOR_WEIGHT", "PRIOR_TEXT", "TYPED_UNIT", "DescriptionError", "ExpectedPose", "ExpectedGuess",
+           "ReadingChoice", "Explanation", "Diagnosis", "BatchDiagnosis", "ConstantOffset", "axis_remaps",
+           "describe_remap", "pose_from_words", "expected_pose", "expected_rows", "diagnose", "diagnose_batch",
+           "average_rotation"]
 
 PRIOR_TEXT = (f"each deviation from the stated reading costs {PRIOR_WEIGHT:g} (prior exp(-{PRIOR_WEIGHT:g} k)): 1 per "
               f"field you did not state, {STATED_COST:g} per field you stated, 1 per other kind of numbers, position "
@@ -82,6 +87,105 @@ def _check_tolerances(rotation_tolerance, translation_tolerance, limit, snap_tol
 # the expected pose
 # --------------------------------------------------------------------------------------
 
+#: The unit typed angles are read in when nobody stated one: degrees, what people type (common
+#: practice).  posekit's core keeps radians as its canonical unit (``Convention``'s default); only
+#: angles typed or pasted without a unit -- on the expected side, in the observed numbers, in the desk
+#: and on the command line -- start in degrees, and the other unit is still scored.
+TYPED_UNIT = "degrees"
+
+
+@dataclass(frozen=True)
+class ReadingChoice:
+    """Another way to read the same expected input, as values: what changes, and to what.
+
+    ``field``: ``"kind"``, ``"unit"``, ``"scalar"`` or ``"layout"``; ``value``: the new kind or
+    the field's new word; ``kind``: the kind the input is read as with this choice;
+    ``convention``: the convention text (the stated keys only) to read it with.  Passing
+    ``kind`` as ``expected_kind`` and ``convention`` as ``expected_convention`` reads the
+    input this way.
+    """
+
+    field: str
+    value: str
+    kind: str
+    convention: str
+
+    def as_dict(self) -> dict:
+        return {"field": self.field, "value": self.value, "kind": self.kind, "convention": self.convention}
+
+
+@dataclass(frozen=True)
+class ExpectedGuess:
+    """What the expected input was taken to be, as values (the desk and the command line render it).
+
+    ``source``: ``numbers``, ``named`` (named components), ``words`` or ``pose``; ``words``: the
+    reading in a few words; ``kind`` (None for words and poses) and ``kind_from`` (``count``,
+    ``names`` or ``given``); ``count``: numbers per pose; ``unit`` the angles were read in (None:
+    no angles typed as numbers) and ``unit_from``: ``default`` (nobody stated it, so
+    :data:`TYPED_UNIT`), ``stated`` (convention text or a unit word) or ``given`` (a Convention
+    object's own unit); ``largest``: the largest angle magnitude typed; ``suggests``: the unit
+    those magnitudes point to when it is not ``unit`` (beyond 2 pi: degrees; within 2 pi and not
+    whole numbers: radians), else None; ``convention``: the convention text read with (stated
+    keys only); ``names``: the component names typed; ``alternatives``: :class:`ReadingChoice`
+    values, each one click or one flag away.
+
+    >>> g = expected_pose("30 -10 90").guess
+    >>> g.line()
+    'read as: Euler angles z-y-x in degrees (from 3 numbers; magnitudes up to 90)'
+    >>> [(c.field, c.value) for c in g.alternatives]
+    [('kind', 'rotation-vector'), ('unit', 'radians')]
+    """
+
+    source: str
+    words: str
+    kind: str | None = None
+    kind_from: str = ""
+    count: int = 0
+    unit: str | None = None
+    unit_from: str | None = None
+    largest: float | None = None
+    suggests: str | None = None
+    convention: str = ""
+    names: tuple = ()
+    alternatives: tuple = ()
+
+    def line(self) -> str:
+        """One line: what the input was read as and on what grounds."""
+        basis = []
+        if self.source == "numbers":
+            basis.append(f"from {self.count} number{'' if self.count == 1 else 's'}" if self.kind_from == "count"
+                         else "the kind you chose")
+        elif self.source == "named":
+            shown = ", ".join(str(n) for n in self.names[:6]) + (", ..." if len(self.names) > 6 else "")
+            basis.append(f"from the names {shown}" if self.kind_from == "names" else "the kind you chose")
+        if self.unit is not None and self.largest is not None:
+            if self.unit_from == "default":
+                basis.append(f"magnitudes up to {self.largest:.4g}" + ("" if self.largest > 2 * math.pi
+                                                                        else f"; no unit typed, so {TYPED_UNIT}"))
+            elif self.unit_from == "given":
+                basis.append(f"the unit of the convention given; magnitudes up to {self.largest:.4g}")
+            else:
+                basis.append(f"unit stated; magnitudes up to {self.largest:.4g}")
+        return f"read as: {self.words}" + (f" ({'; '.join(basis)})" if basis else "")
+
+    def note(self) -> str:
+        """A warning when the magnitudes point to the other unit ("" when they do not)."""
+        if self.suggests is None or self.largest is None:
+            return ""
+        if self.suggests == "radians":
+            return (f"the magnitudes (up to {self.largest:.4g}, not whole numbers) look like radians, but they were "
+                    f"read as {self.unit}" + (" because no unit was typed" if self.unit_from == "default" else
+                                              " as stated"))
+        return (f"the magnitudes (up to {self.largest:.4g}) go beyond 2 pi, which looks like degrees, but they "
+                f"were read as {self.unit}" + (" as stated" if self.unit_from == "stated" else ""))
+
+    def as_dict(self) -> dict:
+        return {"source": self.source, "words": self.words, "kind": self.kind, "kind_from": self.kind_from,
+                "count": self.count, "unit": self.unit, "unit_from": self.unit_from, "largest": self.largest,
+                "suggests": self.suggests, "convention": self.convention, "names": list(self.names),
+                "line": self.line(), "note": self.note(), "alternatives": [c.as_dict() for c in self.alternatives]}
+
+
 @dataclass(frozen=True, eq=False)
 class ExpectedPose:
     """The pose you expected: canonical ``rotation (..., 3, 3)``, ``translation (..., 3)`` or None.
@@ -89,6 +193,8 @@ class ExpectedPose:
     ``reading``: one line saying what the input was read as (kind, sequence, unit, and
     what was not stated).  ``alternatives``: other plausible readings of the same input
     as ``(rotation, translation, deviations, words)``, scored too (an unstated angle unit).
+    ``guess``: the same reading as values, with the other readings one choice away
+    (:class:`ExpectedGuess`; None for an ExpectedPose built by hand).
     """
 
     rotation: np.ndarray
@@ -96,6 +202,7 @@ class ExpectedPose:
     source: str
     reading: str = ""
     alternatives: tuple = ()
+    guess: ExpectedGuess | None = None
 
     @property
     def matrix(self) -> np.ndarray:
@@ -137,7 +244,8 @@ def pose_from_words(text: str, *, limit: int = PASTE_LIMIT) -> ExpectedPose:
     d = read_description(text, limit=limit)
     return ExpectedPose(d.rotation, d.translation, f"described: {d.text.strip()}",
                         f"expected: described: {d.text.strip()} (forward-left-up body axes, turns in the order "
-                        "written)")
+                        "written)", guess=ExpectedGuess("words", "a description in words (forward-left-up body axes, "
+                                                                 "turns in the order written)"))
 
 
 
@@ -153,20 +261,83 @@ def _angle_part(kind: str, arr: np.ndarray) -> np.ndarray:
     return arr[..., 3:] if kind.startswith("position-") else arr
 
 
-#: Deviations charged for reading unstated expected angles in the other unit: radians for magnitudes
-#: beyond 2 pi is implausible (more than a stated field's contradiction), degrees for small ones is a
-#: plain deviation (common practice: code keeps radians, people type degrees).
-_OTHER_UNIT_COST = {"radians": 3.0, "degrees": 1.0}
+def _largest(angles: np.ndarray) -> float:
+    return float(np.max(np.abs(angles))) if angles.size else 0.0
 
 
-def _unit_alternative(other: str) -> tuple[float, str]:
-    why = " (their size says degrees)" if other == "radians" else ""
-    return _OTHER_UNIT_COST[other], f"the expected angles were meant in {other}{why}"
+def _suggested_unit(angles: np.ndarray) -> str | None:
+    """The unit the magnitudes point to: degrees beyond 2 pi (no one writes more than a turn in radians),
+    radians when every magnitude is within 2 pi and some are not whole numbers (typed degrees are mostly
+    whole, radians almost never are), else None (common practice)."""
+    largest = _largest(angles)
+    if largest > 2 * math.pi:
+        return "degrees"
+    a = np.abs(np.asarray(angles, dtype=float))
+    if largest > 0 and np.any(np.abs(a - np.round(a)) > 1e-9):
+        return "radians"
+    return None
 
 
-def _plausible_unit(angles: np.ndarray) -> str:
-    """Degrees when some magnitude exceeds 2 pi (no one writes more than a turn in radians), else radians."""
-    return "degrees" if angles.size and float(np.max(np.abs(angles))) > 2 * math.pi else "radians"
+def _unit_alternative(other: str, angles: np.ndarray) -> tuple[float, str]:
+    """(deviations, words) for reading unstated angles in ``other`` instead: a plain deviation (1), more
+    when the magnitudes rule it out (radians beyond 2 pi: 3, more than a stated field's contradiction),
+    less when they point to it (0.5: cheaper than any slip, still not free)."""
+    suggested = _suggested_unit(angles)
+    if other == "radians" and suggested == "degrees":
+        return 3.0, "the expected angles were meant in radians (though their size says degrees)"
+    if suggested == other:
+        return 0.5, f"the expected angles were meant in {other} (as their size suggests)"
+    return 1.0, f"the expected angles were meant in {other}"
+
+
+def _stated_pairs(convention) -> dict:
+    """The stated convention fields as ``{field: word}`` (canonical words), in ``CHOICES`` order."""
+    keys = stated_fields(convention)
+    conv = as_convention(convention)
+    return {f: getattr(conv, f) for f in CHOICES if f in keys}
+
+
+def _pairs_text(pairs: dict) -> str:
+    return " ".join(f"{k}={v}" for k, v in pairs.items())
+
+
+def _guess_words(kind: str, conv: Convention, count: int, flat: bool) -> str:
+    """The reading in a few words, e.g. 'Euler angles z-y-x in degrees', 'a quaternion (x, y, z, w)'."""
+    rk = kind.replace("position-", "")
+    if rk == "euler":
+        text = f"Euler angles {conv.sequence}{' extrinsic' if conv.axes == 'extrinsic' else ''} in {conv.unit}"
+    elif rk == "rotation-vector":
+        text = f"a rotation vector (axis times angle) in {conv.unit}"
+    elif rk == "quaternion":
+        text = f"a quaternion {'(w, x, y, z)' if conv.scalar == 'first' else '(x, y, z, w)'}" + \
+            (", JPL algebra" if conv.algebra == "jpl" else "")
+    else:
+        text = ("a 3x3 rotation matrix" if kind == "matrix" else
+                "a 4x4 transform" if count == 16 else "a 3x4 [R | t] matrix")
+        if flat:
+            text += " written " + ("row by row" if conv.layout == "row-major" else "column by column")
+    if kind.startswith("position-"):
+        text = f"a position (x, y, z) then {text}"
+    if conv.direction == "child-from-parent" and (kind.startswith("position-") or kind == "transform"):
+        text += ", mapping parent to child"
+    return text
+
+
+def _choices(kind: str, count: int, flat: bool, pairs: dict, unit: str | None, unit_word: bool) -> tuple:
+    """The other readings of the same numbers, one field at a time: another kind with this count, the other
+    angle unit, the other quaternion scalar position, the other flat matrix layout."""
+    out = [ReadingChoice("kind", k, k, _pairs_text(pairs)) for k in COUNTS if count in COUNTS[k] and k != kind]
+    conv = as_convention(_pairs_text(pairs) or None)
+    if kind in _ANGLE_KINDS and unit is not None and not unit_word:
+        other = "radians" if unit == "degrees" else "degrees"
+        out.append(ReadingChoice("unit", other, kind, _pairs_text({**pairs, "unit": other})))
+    if kind.endswith("quaternion"):
+        other = "last" if conv.scalar == "first" else "first"
+        out.append(ReadingChoice("scalar", other, kind, _pairs_text({**pairs, "scalar": other})))
+    if kind in ("matrix", "transform") and flat:
+        other = "column-major" if conv.layout == "row-major" else "row-major"
+        out.append(ReadingChoice("layout", other, kind, _pairs_text({**pairs, "layout": other})))
+    return tuple(out)
 
 
 def _read_expected(arr: np.ndarray, kind: str, conv: Convention):
@@ -209,20 +380,26 @@ def _inverted(r, t):
 
 
 def _numbers_reading(arr: np.ndarray, kind: str | None, convention, unit_word: str | None,
-                     source: str) -> ExpectedPose:
+                     source: str, rows: bool = False) -> ExpectedPose:
+    """Numbers -> ExpectedPose.  ``rows``: every row of a 2-D array is one pose (batch), never a matrix."""
     conv = as_convention(convention)
     stated = stated_fields(convention)
+    kind_from = "count" if kind is None else "given"
+    nested = not rows and arr.ndim >= 2 and arr.shape[-2:] in ((4, 4), (3, 4), (3, 3))
     if kind is None:
         shape = arr.shape
-        if shape[-2:] in ((4, 4), (3, 4)) or shape[-1:] in ((16,), (12,)):
+        if rows:
+            kind = _KIND_BY_COUNT.get(shape[-1]) if shape else None
+        elif shape[-2:] in ((4, 4), (3, 4)) or shape[-1:] in ((16,), (12,)):
             kind = "transform"
         elif shape[-2:] == (3, 3) or shape[-1:] == (9,):
             kind = "matrix"
         else:
             kind = _KIND_BY_COUNT.get(shape[-1]) if shape else None
-            if kind is None:
-                raise WrongShapeError(f"expected pose: got shape {shape}; expected 3, 4, 6, 7, 9, 12 or 16 numbers "
-                                      "(or (3, 3), (3, 4), (4, 4)), or name the kind")
+        if kind is None:
+            what = f"{shape[-1]} numbers on each line" if rows and shape else f"shape {shape}"
+            raise WrongShapeError(f"expected pose: got {what}; expected 3, 4, 6, 7, 9, 12 or 16 numbers "
+                                  "(or (3, 3), (3, 4), (4, 4)), or name the kind")
     if unit_word is not None:
         if kind not in _ANGLE_KINDS:
             raise PoseInputError(f"expected pose: a unit word ({unit_word}) only goes with angles; these numbers were "
@@ -231,16 +408,26 @@ def _numbers_reading(arr: np.ndarray, kind: str | None, convention, unit_word: s
         stated = stated | {"unit"}
     alternatives = []
     unit_note = ""
-    if kind in _ANGLE_KINDS and "unit" not in stated:
+    unit = unit_from = largest = suggests = None
+    if kind in _ANGLE_KINDS:
         angles = _angle_part(kind, arr)
-        plausible = _plausible_unit(angles)
-        other = "radians" if plausible == "degrees" else "degrees"
-        conv = conv.changed(unit=plausible)
-        why = ("magnitudes beyond 2 pi rule out radians" if plausible == "degrees"
-               else "magnitudes within 2 pi fit radians")
-        unit_note = f"; unit not stated: read as {plausible} ({why}), {other} scored too"
-        r2, t2 = _read_expected(arr, kind, conv.changed(unit=other))
-        alternatives.append((r2, t2, *_unit_alternative(other)))
+        largest = _largest(angles)
+        if "unit" in stated:
+            unit_from = "stated"
+        else:
+            # unstated: a Convention object keeps its own unit, anything else starts in the typed unit
+            unit_from = "given" if isinstance(convention, Convention) else "default"
+            if unit_from == "default":
+                conv = conv.changed(unit=TYPED_UNIT)
+            other = "radians" if conv.unit == "degrees" else "degrees"
+            why = ("posekit reads typed angles in degrees when no unit is stated" if unit_from == "default"
+                   else "the unit of the convention given")
+            unit_note = f"; unit not stated: read as {conv.unit} ({why}), {other} scored too"
+            r2, t2 = _read_expected(arr, kind, conv.changed(unit=other))
+            alternatives.append((r2, t2, *_unit_alternative(other, angles)))
+        unit = conv.unit
+        suggests = _suggested_unit(angles)
+        suggests = None if suggests == unit else suggests
     r, t = _read_expected(arr, kind, conv)
     if kind in ("transform", "matrix"):
         try:
@@ -248,10 +435,36 @@ def _numbers_reading(arr: np.ndarray, kind: str | None, convention, unit_word: s
         except NotOrthonormalError:
             unit_note += ("; its 3x3 block is off orthonormal (printed digits): the nearest rotation was taken "
                           "(Higham 1986)")
-    nested = arr.ndim >= 2 and arr.shape[-2:] in ((4, 4), (3, 4), (3, 3))
-    reading = Reading(kind, conv, stated, count=arr.shape[-2] * arr.shape[-1] if nested else arr.shape[-1])
+    count = arr.shape[-2] * arr.shape[-1] if nested else arr.shape[-1]
+    reading = Reading(kind, conv, stated, count=count)
+    pairs = _stated_pairs(convention)
+    guess = ExpectedGuess("numbers", _guess_words(kind, conv, count, not nested), kind, kind_from, count, unit,
+                          unit_from, largest, suggests, _pairs_text(pairs), (),
+                          _choices(kind, count, not nested, pairs, unit, unit_word is not None))
+    if suggests is not None:
+        unit_note += "; " + guess.note()
     words = "expected " + reading.describe() + unit_note
-    return ExpectedPose(r, t, source, words, tuple(alternatives))
+    return ExpectedPose(r, t, source, words, tuple(alternatives), guess)
+
+
+def expected_rows(rows, kind: str | None = None, convention=None) -> ExpectedPose:
+    """Expected poses given one per row: ``(N, n)`` numbers -> an ExpectedPose batch.
+
+    Like :func:`expected_pose`, except that each row is one pose whatever N is (three rows of three
+    numbers are three sets of Euler angles, not one matrix); the count of a row decides the kind.
+
+    >>> expected_rows([[10, 20, 30], [0, 0, 90], [5, 0, 0]]).rotation.shape
+    (3, 3, 3)
+    """
+    if kind is not None and not isinstance(kind, str):
+        return expected_pose(rows, kind, convention)   # the typed error for a kind that is no word
+    if isinstance(convention, str) and not convention.strip():
+        convention = None
+    arr = as_numbers(rows, "expected poses", None)
+    if arr.ndim != 2:
+        raise WrongShapeError(f"expected poses: got shape {arr.shape}; expected (N, n): one pose of n numbers per "
+                              "row")
+    return _numbers_reading(arr, kind, convention, None, "numbers, one pose per row", rows=True)
 
 
 def expected_pose(value, kind: str | None = None, convention=None) -> ExpectedPose:
@@ -265,13 +478,17 @@ def expected_pose(value, kind: str | None = None, convention=None) -> ExpectedPo
     ``quaternion``, ``euler``, ``rotation-vector``, ``position-quaternion``,
     ``position-euler``); without ``kind`` the count decides: 9 or (3, 3) matrix,
     16 / 12 / (4, 4) / (3, 4) transform, 4 quaternion, 3 Euler, 7 position-quaternion,
-    6 position-euler.  Angles whose unit nobody stated are read in the unit their
-    magnitudes make plausible and the other unit is kept as an alternative; the
-    result's ``reading`` says so in one line.
+    6 position-euler.  Angles whose unit nobody stated are read in degrees
+    (:data:`TYPED_UNIT`; a Convention object keeps its own unit) and the other unit is
+    kept as an alternative, charged by how plausible the magnitudes make it; the
+    result's ``reading`` says so in one line and its ``guess`` holds the same as values,
+    with the other readings (:class:`ReadingChoice`) one choice away.
 
     >>> e = expected_pose("10 20 30")
     >>> e.reading
-    'expected Euler angles z-y-x intrinsic in degrees, active, parent-from-child; unit not stated: read as degrees (magnitudes beyond 2 pi rule out radians), radians scored too'
+    'expected Euler angles z-y-x intrinsic in degrees, active, parent-from-child; unit not stated: read as degrees (posekit reads typed angles in degrees when no unit is stated), radians scored too'
+    >>> expected_pose("0.2 0.1 -0.3").guess.note()
+    'the magnitudes (up to 0.3, not whole numbers) look like radians, but they were read as degrees because no unit was typed'
     """
     if kind is not None and not isinstance(kind, str):
         raise WrongTypeError(f"kind of the expected pose: got {summarise(kind)} of type {type(kind).__name__}; expected None (the "
@@ -279,8 +496,11 @@ def expected_pose(value, kind: str | None = None, convention=None) -> ExpectedPo
                              "position-quaternion, position-euler")
     if isinstance(value, ExpectedPose):
         return value
+    if isinstance(convention, str) and not convention.strip():
+        convention = None   # blank text states nothing (a ReadingChoice's convention may be blank)
     if isinstance(value, Pose):
-        return ExpectedPose(value.rotation, value.translation, "a posekit Pose", "expected: a posekit Pose")
+        return ExpectedPose(value.rotation, value.translation, "a posekit Pose", "expected: a posekit Pose",
+                            guess=ExpectedGuess("pose", "a posekit Pose"))
     conv = as_convention(convention)
     if isinstance(value, str):
         unit_word = None
@@ -329,16 +549,36 @@ def _named_expected(parsed: ParsedNumbers, conv: Convention, convention, text: s
     alternatives = []
     note = ""
     lead = pool[0]
+    unit = unit_from = largest = suggests = None
+    choices = []
+    pairs = _stated_pairs(convention)
     if len(units) == 2:  # the text did not say the unit
         angles = np.asarray([v for v in lead.numbers][3:] if lead.kind.startswith("position-") else lead.numbers)
-        plausible = conv.unit if "unit" in stated else _plausible_unit(angles)
-        lead = next(i for i in pool if i.convention.unit == plausible)
-        other = next(i for i in pool if i.convention.unit != plausible and i.rotation_kind == lead.rotation_kind)
+        largest = _largest(angles)
+        if "unit" in stated:
+            unit, unit_from = conv.unit, "stated"
+        else:
+            unit_from = "given" if isinstance(convention, Convention) else "default"
+            unit = conv.unit if unit_from == "given" else TYPED_UNIT
+        lead = next(i for i in pool if i.convention.unit == unit)
+        other = next(i for i in pool if i.convention.unit != unit and i.rotation_kind == lead.rotation_kind)
         if "unit" not in stated:
-            alternatives.append((other.rotation, other.translation, *_unit_alternative(other.convention.unit)))
-            note = f"; unit not stated: read as {plausible}, {other.convention.unit} scored too"
+            alternatives.append((other.rotation, other.translation, *_unit_alternative(other.convention.unit,
+                                                                                      angles)))
+            note = f"; unit not stated: read as {unit}, {other.convention.unit} scored too"
+        suggests = _suggested_unit(angles)
+        suggests = None if suggests == unit else suggests
+        choices.append(ReadingChoice("unit", other.convention.unit, lead.kind,
+                                     _pairs_text({**pairs, "unit": other.convention.unit})))
+    names = tuple(str(n) for n in parsed.names)
+    guess = ExpectedGuess("named", _guess_words(lead.kind, lead.convention, len(lead.numbers), True), lead.kind,
+                          "names" if kind is None else "given", len(lead.numbers), unit, unit_from, largest,
+                          suggests, _pairs_text(pairs), names, tuple(choices))
+    if suggests is not None:
+        note += "; " + guess.note()
     words = f"expected named components read as {lead.describe()}" + note
-    return ExpectedPose(lead.rotation, lead.translation, f"named values: {text.strip()}", words, tuple(alternatives))
+    return ExpectedPose(lead.rotation, lead.translation, f"named values: {text.strip()}", words, tuple(alternatives),
+                        guess)
 
 
 
@@ -374,6 +614,7 @@ def _observed(observed, assumed, assumed_kind, n_pairs: int | None, borrowed=Non
     count = arr.shape[1]
     notes = [] if parsed is None else list(parsed.notes)
     stated_set = None if borrowed is None else frozenset()   # the expected side's convention states nothing here
+    assumed, stated_set = _typed_unit(assumed, stated_set)
     if parsed is not None and parsed.names:
         interps = [i for i in parsed.require_interpretations() if i.kind != "position"]
         if not interps:
@@ -390,7 +631,38 @@ def _observed(observed, assumed, assumed_kind, n_pairs: int | None, borrowed=Non
         return stated, cands, parsed, notes
     stated = stated_reading(count, assumed_kind, assumed, stated=stated_set)
     _check_observed(stated, arr, notes)
+    _unit_note(stated, arr, notes)
     return stated, [Candidate(r, arr) for r in readings_of(stated)], parsed, notes
+
+
+def _typed_unit(assumed, stated_set):
+    """The observed side's reading with the typed-angle default: when neither the reading given nor a
+    Convention object says the unit, angles are read in :data:`TYPED_UNIT` -- not stated, so still free
+    to be wrong -- as on the expected side.  -> (convention or reading, stated field set or None)."""
+    if isinstance(assumed, (Convention, Reading)):
+        return assumed, stated_set
+    blank = assumed is None or (isinstance(assumed, str) and not assumed.strip())
+    keys = frozenset() if blank else stated_fields(assumed)
+    if "unit" in keys:
+        return assumed, stated_set
+    conv = as_convention(None if blank else assumed).changed(unit=TYPED_UNIT)
+    return conv, (keys if stated_set is None else stated_set)
+
+
+def _unit_note(stated: Reading, numbers: np.ndarray, notes: list) -> None:
+    """Say so when observed angles read in one unit have magnitudes that point to the other."""
+    if stated.rotation_kind not in ("euler", "rotation-vector"):
+        return
+    angles, _ = split_numbers(stated, numbers)
+    suggested = _suggested_unit(angles)
+    unit = stated.convention.unit
+    if suggested is None or suggested == unit:
+        return
+    how = "as stated" if "unit" in stated.stated else (
+        "because no unit was given" if unit == TYPED_UNIT else "as the convention given says")
+    looks = "not whole numbers" if suggested == "radians" else "beyond 2 pi"
+    notes.append(f"the observed angles were read in {unit} {how}; their magnitudes (up to {_largest(angles):.4g}, "
+                 f"{looks}) look like {suggested}: the ranking scores both units")
 
 
 #: How far a written-out matrix may be off orthonormal (|M^T M - I|, Frobenius) and still be read
@@ -757,8 +1029,10 @@ def diagnose(expected, observed, *, assumed=None, assumed_kind: str | None = Non
     deviations.  Reflections (handedness flips) are scored unless ``reflections=False``.
     Tolerances: radians and metres, finite and > 0.  Returns the best ``limit`` groups.
 
-    >>> d = diagnose([0.2, 0.1, -0.3], "-0.1534, 0.0343, 0.1060, 0.9819",
-    ...              expected_kind="euler")   # yaw-pitch-roll radians; the quaternion logged scalar-last
+    Angles typed without a unit (on either side) are read in degrees, the other unit scored too.
+
+    >>> d = diagnose([0.2, 0.1, -0.3], "-0.1534, 0.0343, 0.1060, 0.9819", expected_kind="euler",
+    ...              expected_convention="unit=radians")   # yaw-pitch-roll; the quaternion logged scalar-last
     >>> d.best.sentence
     'The quaternion was written scalar-last but read scalar-first.'
     """
@@ -910,6 +1184,8 @@ def _batch_expected(expected, expected_kind, expected_convention) -> ExpectedPos
         if arr.shape[-1] == 4:
             return ExpectedPose(arr[:, :3, :3], arr[:, :3, 3], "transforms", "expected canonical 4x4 transforms")
         return ExpectedPose(arr, None, "rotations", "expected canonical 3x3 rotations")
+    if arr.ndim == 2:  # one pose per row, whatever the number of rows (three rows of three are no matrix here)
+        return expected_rows(arr, expected_kind, expected_convention)
     return expected_pose(arr, expected_kind, expected_convention)
 
 
@@ -920,8 +1196,8 @@ def diagnose_batch(expected, observed, *, assumed=None, assumed_kind: str | None
     """The single slip consistent with N pairs, or a constant offset.
 
     ``expected``: ``(N, 4, 4)`` / ``(N, 3, 3)`` canonical poses, an
-    :class:`ExpectedPose` batch, or ``(N, n)`` numbers read with ``expected_kind`` and
-    ``expected_convention``.  ``observed``: ``(N, n)`` raw numbers (n = 3, 4, 6, 7, 9,
+    :class:`ExpectedPose` batch, or ``(N, n)`` numbers, one pose per row, read with ``expected_kind``
+    and ``expected_convention`` (:func:`expected_rows`).  ``observed``: ``(N, n)`` raw numbers (n = 3, 4, 6, 7, 9,
     12 or 16).  The same engine as :func:`diagnose`: one score per slip summed over the
     pairs, the prior charged once.  When the best explanation does not fit every pair
     within 3 tolerances, a constant left or right offset is fitted (Wahba's problem by

@@ -12,7 +12,7 @@ import numpy as np
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
-__all__ = ["residual_figure", "parsed_html", "error_html"]
+__all__ = ["residual_figure", "parsed_html", "error_html", "choice_words", "guess_html", "plural"]
 
 
 def residual_figure(rotation_residuals, translation_residuals=None, *, offset_rotation_residuals=None,
@@ -22,19 +22,22 @@ def residual_figure(rotation_residuals, translation_residuals=None, *, offset_ro
 
     ``rotation_residuals (N,)`` radians (drawn in degrees), ``translation_residuals
     (N,)`` metres (drawn in millimetres) or None.  Trace order: rotation, offset
-    rotation (if given), translation, offset translation (if given).
+    rotation (if given), translation, offset translation (if given).  Pairs are
+    numbered from 1, as the lines they were pasted on.
 
-    >>> len(residual_figure(np.zeros(4), np.zeros(4)).data)
-    2
+    >>> fig = residual_figure(np.zeros(4), np.zeros(4))
+    >>> len(fig.data), [int(v) for v in fig.data[0].x]
+    (2, [1, 2, 3, 4])
     """
     r = np.degrees(np.asarray(rotation_residuals, dtype=float).reshape(-1))
     n = r.size
-    pair = np.arange(n)
+    pair = np.arange(1, n + 1)
     has_t = translation_residuals is not None
     fig = make_subplots(rows=2 if has_t else 1, cols=1, shared_xaxes=True, vertical_spacing=0.12,
                         subplot_titles=("rotation residual per pair (degrees)",) +
                                        (("translation residual per pair (mm)",) if has_t else ()))
     fig.add_trace(go.Scatter(x=pair, y=r, mode="markers+lines", name="best explanation",
+                             hovertemplate="pair %{x}: %{y:.3g}°<extra></extra>",
                              marker=dict(symbol="circle", size=7, color="#0072B2"),
                              line=dict(color="#0072B2", width=1)), row=1, col=1)
     if offset_rotation_residuals is not None:
@@ -77,9 +80,10 @@ def parsed_html(parsed, limit: int = 8) -> str:
     if not interps:
         return head + notes + "<div class='pk-bad'>no pose representation has this many numbers</div>"
     rows = "".join(f"<tr><td>{i.score:.3f}</td><td>{html.escape(i.describe())}</td></tr>" for i in interps[:limit])
-    more = (f"<div class='pk-words'>and {len(interps) - limit} more readings</div>" if len(interps) > limit else "")
+    more = (f"<div class='pk-words'>and {plural(len(interps) - limit, 'more reading')}</div>"
+            if len(interps) > limit else "")
     tie = (" — several equally valid, none picked" if parsed.ambiguous else "")
-    return (head + notes + f"<div class='pk-words'>{len(interps)} possible readings{tie}:</div>"
+    return (head + notes + f"<div class='pk-words'>{plural(len(interps), 'possible reading')}{tie}:</div>"
             f"<table class='pk-readings'><tr><th>score</th><th>reading</th></tr>{rows}</table>{more}")
 
 
@@ -90,3 +94,48 @@ def error_html(exc) -> str:
         return (f"<div class='pk-bad'>could not read this: {html.escape(exc.reason)} "
                 f"(line {exc.line}, column {exc.column})</div><pre class='pk-caret'>{html.escape(excerpt)}</pre>")
     return f"<div class='pk-bad'>could not use this:</div><pre class='pk-caret'>{html.escape(str(exc))}</pre>"
+
+
+def plural(n: int, noun: str, many: str | None = None) -> str:
+    """``n`` and the noun, plural unless n is 1: ``plural(1, "pair")`` -> '1 pair', ``plural(2, "pair")`` -> '2 pairs'.
+
+    >>> plural(1, "other explanation"), plural(3, "line")
+    ('1 other explanation', '3 lines')
+    """
+    return f"{n} {noun if n == 1 else (many or noun + 's')}"
+
+
+_KIND_WORDS = {"euler": "Euler angles", "rotation-vector": "a rotation vector", "quaternion": "a quaternion",
+               "matrix": "a 3x3 matrix", "transform": "a transform", "position-euler": "a position, then Euler angles",
+               "position-rotation-vector": "a position, then a rotation vector",
+               "position-quaternion": "a position, then a quaternion"}
+
+
+def choice_words(choice) -> str:
+    """A few words for another reading of the expected input (a ReadingChoice), e.g. 'angles in radians'.
+
+    >>> from posekit.analysis.diagnose import ReadingChoice
+    >>> choice_words(ReadingChoice("scalar", "last", "quaternion", "scalar=last"))
+    'w last (x, y, z, w)'
+    """
+    if choice.field == "kind":
+        return _KIND_WORDS.get(choice.value, choice.value)
+    if choice.field == "unit":
+        return f"angles in {choice.value}"
+    if choice.field == "scalar":
+        return "w first (w, x, y, z)" if choice.value == "first" else "w last (x, y, z, w)"
+    if choice.field == "layout":
+        return "row by row" if choice.value == "row-major" else "column by column"
+    return f"{choice.field}={choice.value}"
+
+
+def guess_html(guess, action: str = "") -> str:
+    """The one 'read as' line of the expected input and, when the magnitudes point to the other unit, a
+    visible note (``action``: what to do about it, in the words of the place it is shown)."""
+    if guess is None:
+        return ""
+    out = f"<div class='pk-read-as'>{html.escape(guess.line())}</div>"
+    note = guess.note()
+    if note:
+        out += f"<div class='pk-unit-note'>note: {html.escape(note)}{html.escape(action)}</div>"
+    return out

@@ -25,9 +25,11 @@ deficiencies), so colour is never the only cue.  Drawing only: every number come
 from the :class:`~posekit.analysis.Sweep` and
 :class:`~posekit.analysis.EulerSolutions` passed in.
 
-Trace and shape order is stable (see :data:`SWEEP_TRACES`), so a widget can move the
+Every trace carries a stable ``uid`` (see :data:`SWEEP_TRACES`, :data:`FAMILY_TRACES`),
+so a widget finds the traces it patches by uid, never by position, and can move the
 current step by patching a handful of small traces (:func:`step_marks`,
-:func:`family_data`) inside one batched update.
+:func:`family_data`) inside one batched update.  Axis ticks read in the axis's own
+unit: plain numbers, an explicit power of ten where needed, never an SI prefix.
 """
 
 from __future__ import annotations
@@ -40,6 +42,8 @@ from ..analysis.singularity import EulerSolutions
 from ..analysis.sweeps import Sweep
 from ..core.convention import Convention
 from ..core.errors import PoseInputError
+from .frames import trace_index
+from .readouts import format_number
 
 __all__ = [
     "SWEEP_TRACES",
@@ -72,18 +76,20 @@ _ROW_SYMBOLS = ("circle", "square", "diamond")
 _COL_DASHES = ("solid", "dash", "dot")
 _MARKS_SHOWN = 9  # marker symbols shown along each line (plotly thins them evenly)
 
-#: Trace indices of :func:`sweep_figure` (stable).
+#: Trace uids of :func:`sweep_figure` (quaternion ``k``: the k-th component in the convention's order).
 SWEEP_TRACES = {
-    "euler": (0, 1, 2), "euler_now": 3,
-    "quaternion": (4, 5, 6, 7), "quaternion_now": 8,
-    "matrix": tuple(range(9, 18)), "matrix_now": 18,
-    "gauge": 19, "gauge_now": 20,
+    "euler": ("euler-1", "euler-2", "euler-3"), "euler_now": "euler-now",
+    "quaternion": ("quaternion-1", "quaternion-2", "quaternion-3", "quaternion-4"), "quaternion_now": "quaternion-now",
+    "matrix": tuple(f"matrix-{r}{c}" for r in (1, 2, 3) for c in (1, 2, 3)), "matrix_now": "matrix-now",
+    "gauge": "gauge", "gauge_now": "gauge-now",
 }
 #: Shape index of the current-step line, annotation index of its label (after the 4 panel titles).
 CURRENT_SHAPE, CURRENT_LABEL = 0, 4
 
-#: Trace indices of :func:`family_figure` (stable).
-FAMILY_TRACES = {"family": 0, "other": 1, "readback": 2}
+#: Trace uids of :func:`family_figure`.
+FAMILY_TRACES = {"family": "family", "other": "other", "readback": "readback"}
+#: Axis settings shared by every chart here: ticks in the axis's unit (no SI prefixes such as "600μ").
+_TICKS = dict(exponentformat="power", separatethousands=False)
 
 _USUAL = {("zyx", True): ("yaw", "pitch", "roll"), ("xyz", False): ("roll", "pitch", "yaw")}
 
@@ -140,15 +146,15 @@ def _labels(conv: Convention):
     return euler, quat, matrix
 
 
-def _line(x, y, name, colour, dash, symbol, legend, width=2.0):
-    return go.Scatter(x=x, y=y, name=name, mode="lines+markers", legend=legend,
+def _line(x, y, name, colour, dash, symbol, legend, uid, width=2.0):
+    return go.Scatter(x=x, y=y, name=name, mode="lines+markers", legend=legend, uid=uid,
                       line=dict(color=colour, dash=dash, width=width),
                       marker=dict(symbol=symbol, size=7, color=colour, maxdisplayed=_MARKS_SHOWN),
                       hovertemplate="%{x:.6g}: %{y:.6g}<extra>%{fullData.name}</extra>")
 
 
-def _now(x, y, symbols, colours, name, legend):
-    return go.Scatter(x=x, y=y, name=name, mode="markers", legend=legend, showlegend=False,
+def _now(x, y, symbols, colours, name, legend, uid):
+    return go.Scatter(x=x, y=y, name=name, mode="markers", legend=legend, showlegend=False, uid=uid,
                       marker=dict(symbol=[s + "-open" for s in symbols], size=12, color=colours,
                                   line=dict(width=2.5, color=colours)),
                       hovertemplate="current step: %{y:.6g}<extra></extra>")
@@ -157,7 +163,7 @@ def _now(x, y, symbols, colours, name, legend):
 def step_marks(sweep: Sweep, step: int) -> dict:
     """The data that moves with the current step of :func:`sweep_figure`.
 
-    Returns ``{"traces": {trace index: {"x": [...], "y": [...]}}, "layout": {path: value}}``:
+    Returns ``{"traces": {trace uid: {"x": [...], "y": [...]}}, "layout": {path: value}}``:
     the hollow markers on every curve and the current-step line and label (layout
     paths such as ``"shapes[0].x0"``, for ``Figure.update_layout``).
 
@@ -179,7 +185,7 @@ def step_marks(sweep: Sweep, step: int) -> dict:
     }
     layout = {f"shapes[{CURRENT_SHAPE}].x0": p, f"shapes[{CURRENT_SHAPE}].x1": p,
               f"annotations[{CURRENT_LABEL}].x": p,
-              f"annotations[{CURRENT_LABEL}].text": f"step {k} at {p:.6g}"}
+              f"annotations[{CURRENT_LABEL}].text": f"step {k} at {format_number(p, 6, trim=True)}"}
     return {"traces": traces, "layout": layout}
 
 
@@ -219,6 +225,7 @@ def _notes(s: Sweep, x):
                   text=_PANEL_TITLES[i], font=dict(size=12.5, color="#222222"), bgcolor="rgba(255,255,255,0.92)")
              for i, dom in enumerate(_domains())]  # the white ground keeps the step line out of the titles
     notes.append(dict(x=0.0, y=1.0, xref="x", yref="paper", yanchor="bottom", yshift=16, showarrow=False,
+                      name="current step",
                       text="", font=dict(size=12, color="#333333"), bgcolor="rgba(255,255,255,0.85)"))
     lo, hi = float(np.min(x)), float(np.max(x))
 
@@ -245,7 +252,7 @@ def _notes(s: Sweep, x):
 def sweep_patch(sweep: Sweep, step: int = 0, parameter_label: str | None = None) -> dict:
     """Everything of :func:`sweep_figure` that depends on the sweep, as data for a batched update.
 
-    Returns ``{"traces": {trace index: {...}}, "layout": {path: value}}``: every trace's
+    Returns ``{"traces": {trace uid: {...}}, "layout": {path: value}}``: every trace's
     ``x``, ``y`` and ``name``, the bands, labels, axis ranges and titles, and the
     current-step marks of :func:`step_marks`.  ``sweep_figure`` is the fixed styling
     plus this patch, so a widget that applies it shows exactly what ``sweep_figure``
@@ -255,7 +262,7 @@ def sweep_patch(sweep: Sweep, step: int = 0, parameter_label: str | None = None)
     >>> from posekit.analysis import sweep_one_angle
     >>> s = sweep_one_angle([30, 0, 20], 1, np.linspace(60, 120, 61), "unit=degrees")
     >>> p = sweep_patch(s, 0)
-    >>> bool(np.array_equal(p["traces"][1]["y"], s.euler[:, 1]))
+    >>> bool(np.array_equal(p["traces"]["euler-2"]["y"], s.euler[:, 1]))
     True
     """
     s = _check_sweep(sweep)
@@ -283,7 +290,7 @@ def sweep_patch(sweep: Sweep, step: int = 0, parameter_label: str | None = None)
     half = _half_turn(conv)
     lo = 0.0 if conv.wrap == "positive" else -half
     pad = 0.08 * half
-    shapes = [dict(type="line", xref="x", yref="paper", x0=0, x1=0, y0=0, y1=1.0,
+    shapes = [dict(type="line", xref="x", yref="paper", x0=0, x1=0, y0=0, y1=1.0, name="current step",
                    line=dict(color="#333333", width=1.5, dash="dash"))]
     shapes += _bands(x, s.euler_jumps, "paper", _ORANGE, 0.28)
     shapes += _bands(x, s.quaternion_jumps, "y2 domain", _SKY, 0.35)
@@ -333,12 +340,16 @@ def apply_patch(fig, patch: dict) -> None:
     """Apply a patch from :func:`sweep_patch`, :func:`step_marks` or :func:`family_data` to ``fig``.
 
     Mutates ``fig`` (a ``go.Figure`` or ``go.FigureWidget``); call it inside
-    ``fig.batch_update()`` on a widget so the page gets one message.  Whole lists
+    ``fig.batch_update()`` on a widget so the page gets one update.  Traces are found by
+    uid (:data:`SWEEP_TRACES`, :data:`FAMILY_TRACES`).  Whole lists
     (``shapes``, ``annotations``) are set before single entries of them.  Properties
     are set one by one (much cheaper in plotly.py than ``update`` with nested dicts).
     """
-    for idx, data in patch.get("traces", {}).items():
-        _set_props(fig.data[idx], data)
+    traces = patch.get("traces", {})
+    if traces:
+        where = {tr.uid: i for i, tr in enumerate(fig.data)}
+        for uid, data in traces.items():
+            _set_props(fig.data[where[uid] if uid in where else trace_index(fig, uid)], data)
     layout = patch.get("layout", {})
     for path in sorted(layout, key=lambda p: "[" in p):
         _set_path(fig.layout, path, layout[path])
@@ -352,7 +363,7 @@ def sweep_figure(sweep: Sweep, step: int = 0, *, parameter_label: str | None = N
     (0..N-1) places the current-step marker; ``parameter_label`` titles the shared x axis
     (default "sweep parameter"; use :func:`angle_name` for a swept Euler angle).
 
-    Traces (stable order, :data:`SWEEP_TRACES`): Euler angles 1-3, their current-step
+    Traces (uids in :data:`SWEEP_TRACES`): Euler angles 1-3, their current-step
     markers, quaternion components in the convention's order, markers, the nine matrix
     entries row by row, markers, the gauge, its marker.  Shape 0 is the current-step line;
     then one shaded band per Euler jump (all panels), per written-quaternion flip
@@ -363,7 +374,7 @@ def sweep_figure(sweep: Sweep, step: int = 0, *, parameter_label: str | None = N
     >>> from posekit.analysis import sweep_one_angle
     >>> s = sweep_one_angle([30, 0, 20], 1, np.linspace(60, 120, 61), "unit=degrees")
     >>> fig = sweep_figure(s, 30, parameter_label="pitch, degrees")
-    >>> len(fig.data), np.allclose(fig.data[1].y, s.euler[:, 1])
+    >>> len(fig.data), np.allclose(fig.data[trace_index(fig, "euler-2")].y, s.euler[:, 1])
     (21, True)
     """
     s = _check_sweep(sweep)
@@ -371,32 +382,34 @@ def sweep_figure(sweep: Sweep, step: int = 0, *, parameter_label: str | None = N
     if not (isinstance(height, (int, np.integer)) and height >= 300):
         raise SweepViewError(f"height: got {height!r}; expected an integer number of pixels >= 300")
     fig = make_subplots(rows=4, cols=1, shared_xaxes=True, vertical_spacing=_SPACING, row_heights=list(_ROW_HEIGHTS))
+    t = SWEEP_TRACES
     for i in range(3):
         c, d, m = _EULER_STYLE[i]
-        fig.add_trace(_line([], [], "", c, d, m, "legend"), row=1, col=1)
+        fig.add_trace(_line([], [], "", c, d, m, "legend", t["euler"][i]), row=1, col=1)
     fig.add_trace(_now([], [], [st[2] for st in _EULER_STYLE], [st[0] for st in _EULER_STYLE],
-                       "current step", "legend"), row=1, col=1)
-    for name in ("w", "x", "y", "z"):
+                       "current step", "legend", t["euler_now"]), row=1, col=1)
+    for i, name in enumerate(("w", "x", "y", "z")):
         c, d, m = _QUAT_STYLE[name]
-        fig.add_trace(_line([], [], name, c, d, m, "legend2"), row=2, col=1)
-    fig.add_trace(_now([], [], ["circle"] * 4, [_BLACK] * 4, "current step", "legend2"), row=2, col=1)
+        fig.add_trace(_line([], [], name, c, d, m, "legend2", t["quaternion"][i]), row=2, col=1)
+    fig.add_trace(_now([], [], ["circle"] * 4, [_BLACK] * 4, "current step", "legend2", t["quaternion_now"]),
+                  row=2, col=1)
     for e in range(9):
         r, c = divmod(e, 3)
-        fig.add_trace(_line([], [], "", _ROW_COLOURS[r], _COL_DASHES[c], _ROW_SYMBOLS[r], "legend3", 1.6),
-                      row=3, col=1)
+        fig.add_trace(_line([], [], "", _ROW_COLOURS[r], _COL_DASHES[c], _ROW_SYMBOLS[r], "legend3", t["matrix"][e],
+                            1.6), row=3, col=1)
     fig.add_trace(_now([], [], [_ROW_SYMBOLS[e // 3] for e in range(9)], [_ROW_COLOURS[e // 3] for e in range(9)],
-                       "current step", "legend3"), row=3, col=1)
-    fig.add_trace(go.Scatter(x=[], y=[], name="lock gauge", mode="lines", legend="legend4",
+                       "current step", "legend3", t["matrix_now"]), row=3, col=1)
+    fig.add_trace(go.Scatter(x=[], y=[], name="lock gauge", mode="lines", legend="legend4", uid=t["gauge"],
                              line=dict(color=_BLACK, width=2), fill="tozeroy", fillcolor="rgba(0,0,0,0.08)",
                              showlegend=False, hovertemplate="%{x:.6g}: gauge %{y:.4f}<extra></extra>"),
                   row=4, col=1)
-    fig.add_trace(_now([], [], ["circle"], [_BLACK], "current step", "legend4"), row=4, col=1)
+    fig.add_trace(_now([], [], ["circle"], [_BLACK], "current step", "legend4", t["gauge_now"]), row=4, col=1)
 
     fig.update_yaxes(title_text="component", range=[-1.08, 1.08], row=2, col=1)
     fig.update_yaxes(title_text="entry", range=[-1.08, 1.08], row=3, col=1)
     fig.update_yaxes(title_text="gauge", range=[0, 1.05], tickvals=[0, 0.5, 1], row=4, col=1)
-    fig.update_yaxes(gridcolor="#e6e6e6", zerolinecolor="#bbbbbb", title_font=dict(size=12))
-    fig.update_xaxes(gridcolor="#e6e6e6", showline=True, linecolor="#999999")
+    fig.update_yaxes(gridcolor="#e6e6e6", zerolinecolor="#bbbbbb", title_font=dict(size=12), **_TICKS)
+    fig.update_xaxes(gridcolor="#e6e6e6", showline=True, linecolor="#999999", **_TICKS)
     fig.update_xaxes(title_font=dict(size=12.5), row=4, col=1)
     legends = {}
     for n, dom in zip((1, 2, 3), _domains()):
@@ -436,7 +449,7 @@ def _check_solutions(solutions) -> EulerSolutions:
 def family_data(solutions: EulerSolutions, step: int) -> dict:
     """The data :func:`family_figure` draws for one step of a path of solutions ``(N,)``.
 
-    Returns ``{"traces": {index: {...}}, "layout": {path: value}, "note": str,
+    Returns ``{"traces": {uid: {...}}, "layout": {path: value}, "note": str,
     "family_step": int | None}``.  The family line is the current step's when it is at
     the pole, else that of the pole step of the path nearest to it (``family_step``),
     else empty.  ``note`` says in words what the plane shows at this step.
@@ -445,7 +458,7 @@ def family_data(solutions: EulerSolutions, step: int) -> dict:
     >>> from posekit.analysis import euler_solutions, sweep_one_angle
     >>> s = sweep_one_angle([30, 0, 20], 1, np.linspace(60, 120, 61), "unit=degrees")
     >>> d = family_data(euler_solutions(s.rotation, s.convention), 30)
-    >>> d["family_step"], round(d["traces"][2]["x"][0], 9)   # readback (10, 90, 0) at step 30
+    >>> d["family_step"], round(d["traces"]["readback"]["x"][0], 9)   # readback (10, 90, 0) at step 30
     (30, 10.0)
     """
     sol = _check_solutions(solutions)
@@ -466,14 +479,15 @@ def family_data(solutions: EulerSolutions, step: int) -> dict:
     if at[k]:
         ox, oy = [], []
         combo = "first + third" if int(np.asarray(sol.fixed_sign)[k]) > 0 else "first \u2212 third"
-        note = (f"At the pole only {combo} = {float(np.asarray(sol.fixed_value)[k]):.6g} {unit} is fixed: "
+        fixed = format_number(float(np.asarray(sol.fixed_value)[k]), 6, trim=True)
+        note = (f"At the pole only {combo} = {fixed} {unit} is fixed: "
                 "every point on the line is the same orientation; the readback is one of them.")
     else:
         other = np.asarray(sol.regular)[k, 1]
         ox, oy = [float(other[0])], [float(other[2])]
-        d = f"{float(np.asarray(sol.distance)[k]):.4g}"
+        d = format_number(float(np.asarray(sol.distance)[k]), 4, trim=True)
         note = (f"{d} {unit[:-1] if d == '1' else unit} from the pole: exactly two triplets, the readback "
-                f"and the other (middle angle {float(other[1]):.6g} {unit}).")
+                f"and the other (middle angle {format_number(float(other[1]), 6, trim=True)} {unit}).")
     lo = 0.0 if conv.wrap == "positive" else -half
     rng = [lo - 0.04 * half, lo + 2 * half + 0.04 * half]
     ticks = [lo + half * i / 2 for i in range(5)]
@@ -494,7 +508,7 @@ def family_figure(solutions: EulerSolutions, step: int, *, height: int = 420, wi
     """First vs third Euler angle of one step of a path of solutions ``(N,)``.
 
     ``solutions`` from :func:`posekit.analysis.euler_solutions` over the path's rotations
-    ``(N, 3, 3)``.  Traces (stable order, :data:`FAMILY_TRACES`): the line of equivalent
+    ``(N, 3, 3)``.  Traces (uids in :data:`FAMILY_TRACES`): the line of equivalent
     triplets at the pole (see :func:`family_data`), the other regular triplet (away from
     the pole), the readback.  Axes span one full turn of the outer range, equal scale.
     ``height`` and ``width`` in pixels (``width=None`` follows the container).
@@ -510,17 +524,18 @@ def family_figure(solutions: EulerSolutions, step: int, *, height: int = 420, wi
     if not (isinstance(height, (int, np.integer)) and height >= 200):
         raise SweepViewError(f"height: got {height!r}; expected an integer number of pixels >= 200")
     fig = go.Figure([
-        go.Scatter(x=[], y=[], name="", mode="lines+markers",
+        go.Scatter(x=[], y=[], name="", mode="lines+markers", uid=FAMILY_TRACES["family"],
                    line=dict(color=_ORANGE, width=3), marker=dict(symbol="circle", size=4, color=_ORANGE),
                    hovertemplate="first %{x:.6g}, third %{y:.6g}<extra>same orientation</extra>"),
-        go.Scatter(x=[], y=[], name="the other triplet", mode="markers",
+        go.Scatter(x=[], y=[], name="the other triplet", mode="markers", uid=FAMILY_TRACES["other"],
                    marker=dict(symbol="square-open", size=12, color=_BLUE, line=dict(width=2.5)),
                    hovertemplate="first %{x:.6g}, third %{y:.6g}<extra>other triplet</extra>"),
-        go.Scatter(x=[], y=[], name="read back", mode="markers",
+        go.Scatter(x=[], y=[], name="read back", mode="markers", uid=FAMILY_TRACES["readback"],
                    marker=dict(symbol="x", size=13, color=_VERMILLION, line=dict(width=1, color="#ffffff")),
                    hovertemplate="first %{x:.6g}, third %{y:.6g}<extra>read back</extra>"),
     ])
-    axis = dict(gridcolor="#e6e6e6", zeroline=False, showline=True, linecolor="#999999", title_font=dict(size=12))
+    axis = dict(gridcolor="#e6e6e6", zeroline=False, showline=True, linecolor="#999999", title_font=dict(size=12),
+                **_TICKS)
     fig.update_layout(
         height=int(height), width=None if width is None else int(width), template="plotly_white",
         margin=dict(l=60, r=14, t=34 if title else 12, b=128),

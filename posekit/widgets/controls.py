@@ -1,19 +1,29 @@
-"""Shared ipywidgets building blocks: the convention bar and slider-plus-number rows.
+"""Shared ipywidgets building blocks: the convention bar, slider-plus-number rows and the figure slot.
 
 Glue only: the values live in traitlets of the owning widget; nothing here computes.
+Plots are updated through plotly's public API only (``plotly_restyle`` with traces
+looked up by uid, ``batch_update``); a :class:`FigureSlot` watches that a plot really
+appeared in the page and offers to show it again when it did not.
 """
 
 from __future__ import annotations
+
+import math
 
 import anywidget
 import ipywidgets as w
 import plotly.graph_objects as go
 import traitlets as t
-from plotly.basedatatypes import BaseFigure, Undefined
 
 from ..core.convention import CHOICES
+from ..view.frames import trace_index
+from ..view.readouts import format_number, raw_number
 
-__all__ = ["ConventionBar", "NumberRow", "KeyboardScope", "OneMessageFigure"]
+__all__ = ["ConventionBar", "NumberBox", "NumberRow", "KeyboardScope", "LiveFigure", "OneMessageFigure",
+           "FigureSlot", "PlotWatch", "restyle_traces", "BOX_DIGITS"]
+
+#: Decimals a number box shows (trailing zeros dropped; the exact value is kept and shown on hover).
+BOX_DIGITS = 6
 
 _LABELS = {
     "sequence": "Euler sequence",
@@ -80,11 +90,70 @@ class ConventionBar(w.GridBox):
                 self.controls[k].value = v
 
 
+class NumberBox(w.Text):
+    """A text box for one number, written by :func:`~posekit.view.readouts.format_number`.
+
+    ``number`` (a float, kernel side only) is the value; the page shows it formatted
+    (``4.3733e-15`` never reads as ``4.3732626`` in a narrow box, ``0.1 + 0.2`` reads
+    ``0.3``) with the exact value in the hover title whenever the text is rounded.
+    Typing a number and pressing Enter (or leaving the box) sets ``number``; text that
+    is not a finite number is refused, the box shows the value again and says why on hover.
+    Leaving the text as shown keeps the exact value.
+    """
+
+    number = t.Float(0.0)
+
+    def __init__(self, number: float = 0.0, digits: int = BOX_DIGITS, **kwargs):
+        self._digits = digits
+        self._shown = None
+        super().__init__(continuous_update=False, **kwargs)
+        self.number = float(number)
+        self._write()
+        self.observe(self._on_text, "value")
+        self.observe(lambda ch: self._write(), "number")
+
+    def _write(self) -> None:
+        text = format_number(self.number, self._digits, trim=True)
+        raw = raw_number(self.number)
+        self._shown = text
+        tip = None if _reads_as(text, self.number) else f"exact value: {raw}"
+        with self.hold_sync():
+            if self.value != text:
+                self.value = text
+            if self.tooltip != tip:
+                self.tooltip = tip
+
+    def _on_text(self, change) -> None:
+        text = str(change["new"]).strip()
+        if text == self._shown:
+            return  # the text as written by _write (or typed unchanged): keep the exact number
+        try:
+            v = float(text.replace("\u2212", "-").replace(" ", ""))
+        except ValueError:
+            v = math.nan
+        if not math.isfinite(v):
+            self._write()
+            self.tooltip = f"not a finite number: {text[:60]!r}; kept {raw_number(self.number)}"
+            return
+        if v == self.number:
+            self._write()
+        else:
+            self.number = v
+
+
+def _reads_as(text: str, value: float) -> bool:
+    try:
+        return float(text) == value
+    except ValueError:
+        return False
+
+
 class NumberRow(w.HBox):
     """A label, a slider and an unbounded number box for one value.
 
-    The slider covers the usual range; the number box accepts any finite value (a value
-    outside the slider range leaves the slider at its end, the number is kept as typed).
+    The slider covers the usual range; the number box (:class:`NumberBox`) accepts any
+    finite value (a value outside the slider range leaves the slider at its end, the
+    number is kept as typed).
     """
 
     def __init__(self, label: str, value: float, lo: float, hi: float, step: float, css: str):
@@ -92,7 +161,7 @@ class NumberRow(w.HBox):
         self._css = css
         self._slider_observers = []
         self.slider = self._make_slider(value, lo, hi, step)
-        self.box = w.FloatText(value=value, step=None, layout=w.Layout(width="86px"))  # step=None: no rounding in the page
+        self.box = NumberBox(value, layout=w.Layout(width="104px"))
         self.box.add_class(f"posekit-number-{css}")
         super().__init__([self.label, self.slider, self.box], layout=w.Layout(align_items="center"))
 
@@ -107,8 +176,12 @@ class NumberRow(w.HBox):
         clamped = min(max(value, self.slider.min), self.slider.max)
         if self.slider.value != clamped:
             self.slider.value = clamped
-        if self.box.value != value:
-            self.box.value = value
+        if self.box.number != value:
+            self.box.number = value
+
+    def observe_box(self, callback) -> None:
+        """Call ``callback(value)`` with the number typed into the box."""
+        self.box.observe(lambda ch: callback(ch["new"]), "number")
 
     def observe_slider(self, callback) -> None:
         """Call ``callback(change)`` on slider moves; kept across :meth:`set_range`."""
@@ -169,69 +242,208 @@ class KeyboardScope(anywidget.AnyWidget):
     scope = t.Unicode(".posekit-graph-explorer").tag(sync=True)
 
 
-class OneMessageFigure(go.FigureWidget):
-    """A plotly ``FigureWidget`` whose restyles and batch updates reach the page as one comm message each.
+def restyle_traces(fig, changes: dict) -> None:
+    """Set trace properties by uid (or name): ``{uid: {property: value}}``, one plotly restyle.
 
-    plotly sends every restyle (and every ``batch_update``) as four messages: each of
-    the two edit counters, the restyle itself, then a reset of its trait to None (which
-    the page ignores).
-    Here the counters travel in the same update message as the restyle, and the reset
-    stays in the kernel (a view built later reads the trait's None from the kernel, as
-    before).  The Python-side figure data is updated by plotly exactly as before.
-    Inside an enclosing ``hold_sync`` plotly's own route is kept.
+    Uses plotly's public ``plotly_restyle``; the trace positions are looked up from the
+    uids (:func:`posekit.view.frames.trace_index`), never assumed.  Every trace must get
+    the same property names (plotly's restyle takes one list per property).
+    """
+    if not changes:
+        return
+    uids = list(changes)
+    keys = list(changes[uids[0]])
+    if any(list(changes[u]) != keys for u in uids):
+        raise ValueError("restyle_traces: every trace needs the same property names in one call")
+    fig.plotly_restyle({k: [changes[u][k] for u in uids] for k in keys},
+                       trace_indexes=[trace_index(fig, u) for u in uids])
+
+
+class LiveFigure(go.FigureWidget):
+    """A plotly ``FigureWidget`` updated through plotly's public API only.
+
+    :meth:`restyle` sets trace properties by uid (:func:`restyle_traces`); layout and
+    mixed edits go through ``batch_update``.  Nothing of plotly or ipywidgets is overridden.
+
+    A ``FigureWidget`` gives every trace a fresh random ``uid`` when it is built; the
+    uids of the figure it is built from (posekit's figures name their traces by uid) are
+    set back with one public ``plotly_restyle``, so traces keep their stable uids.
     """
 
-    def _perform_plotly_restyle(self, restyle_data, trace_indexes):
-        """plotly's update of the kernel-side trace data, with a cheaper check of plain property names.
+    def __init__(self, data=None, layout=None, frames=None, skip_invalid=False, **kwargs):
+        source = getattr(data, "data", None) if data is not None and not isinstance(data, (list, tuple, dict)) \
+            else None
+        uids = [getattr(tr, "uid", None) for tr in source] if source is not None else []
+        super().__init__(data=data, layout=layout, frames=frames, skip_invalid=skip_invalid, **kwargs)
+        if uids and all(isinstance(u, str) and u for u in uids) and len(set(uids)) == len(uids) \
+                and [tr.uid for tr in self.data] != uids:
+            self.plotly_restyle({"uid": uids}, trace_indexes=list(range(len(uids))))
 
-        plotly checks every (key, trace) pair by reading the property from the trace;
-        a plain name (no ``.`` or ``[``) is valid exactly when it is one of the trace's
-        properties, which is a set lookup.  Anything else takes plotly's own route.
-        The changes returned and the data set are the same as plotly's.
+    def restyle(self, changes: dict) -> None:
+        """``{uid: {property: value}}`` as one plotly restyle (see :func:`restyle_traces`)."""
+        if not changes:
+            return
+        uids = list(changes)
+        keys = list(changes[uids[0]])
+        if any(list(changes[u]) != keys for u in uids):
+            raise ValueError("restyle_traces: every trace needs the same property names in one call")
+        self.plotly_restyle({k: [changes[u][k] for u in uids] for k in keys},
+                            trace_indexes=[self.index(u) for u in uids])
+
+    def index(self, uid: str) -> int:
+        """Position of the trace with this uid (or name), looked up once and remembered.
+
+        The memory is dropped when the number of traces changes; a remembered position is
+        used only while the trace there still has that uid.
         """
-        traces = self.data
-        plain = all(isinstance(key, str) and "." not in key and "[" not in key for key in restyle_data)
-        if not (plain and all(0 <= i < len(traces) for i in trace_indexes)
-                and all(key in traces[i]._valid_props for key in restyle_data for i in trace_indexes)):
-            return super()._perform_plotly_restyle(restyle_data, trace_indexes)
-        changes = {}
-        for key, v in restyle_data.items():
-            changed = False
-            for n, i in enumerate(trace_indexes):
-                value = v[n % len(v)] if isinstance(v, list) else v
-                if value is not Undefined:
-                    changed = BaseFigure._set_in(self._data[i], key, value) or changed
-            if changed:
-                changes[key] = v
-        return changes
+        n = len(self.data)
+        if getattr(self, "_posekit_positions", (None, None))[0] != n:
+            self._posekit_positions = (n, {})
+        known = self._posekit_positions[1]
+        i = known.get(uid)
+        if i is None:
+            i = known[uid] = trace_index(self, uid)
+        return i
 
-    def _send_restyle_msg(self, restyle_data, trace_indexes=None, source_view_id=None):
-        if self._holding_sync:
-            return super()._send_restyle_msg(restyle_data, trace_indexes, source_view_id)
-        self._send_one("_py2js_restyle", lambda layout_id, trace_id: {
-            "restyle_data": restyle_data, "restyle_traces": self._normalize_trace_indexes(trace_indexes),
-            "trace_edit_id": trace_id, "layout_edit_id": layout_id, "source_view_id": source_view_id})
+    def trace(self, uid: str):
+        """The trace with this uid (or name)."""
+        return self.data[self.index(uid)]
 
-    def _send_update_msg(self, restyle_data, relayout_data, trace_indexes=None, source_view_id=None):
-        """What ``batch_update`` sends: as one message, like the restyle above."""
-        if self._holding_sync:
-            return super()._send_update_msg(restyle_data, relayout_data, trace_indexes, source_view_id)
-        self._send_one("_py2js_update", lambda layout_id, trace_id: {
-            "style_data": restyle_data, "layout_data": relayout_data,
-            "style_traces": self._normalize_trace_indexes(trace_indexes), "trace_edit_id": trace_id,
-            "layout_edit_id": layout_id, "source_view_id": source_view_id})
 
-    def _send_one(self, name: str, build) -> None:
-        """Send plotly's message ``build(layout_edit_id, trace_edit_id)`` in trait ``name`` with both counters."""
-        self._layout_edit_in_process = True
-        self._trace_edit_in_process = True
-        with self.hold_sync():  # one 'update' message: both counters and plotly's message
-            self._last_layout_edit_id += 1
-            self._last_trace_edit_id += 1
-            setattr(self, name, build(self._last_layout_edit_id, self._last_trace_edit_id))
-        locked = self._property_lock
-        self._property_lock = {**locked, name: None}  # the page already holds the message
-        try:
-            setattr(self, name, None)
-        finally:
-            self._property_lock = locked
+#: Former name of :class:`LiveFigure`, kept for callers that still import it.
+OneMessageFigure = LiveFigure
+
+
+class PlotWatch(anywidget.AnyWidget):
+    """A tiny page-side watcher beside a plot: did the plot really appear?
+
+    Large widget front ends can fail to start in a busy page (the figure's code has a
+    few seconds to load; past that the plot stays blank and the browser console says
+    "Failed to initialize model").  This watcher has a small front end of its own: it
+    looks for the plotly graph in its :class:`FigureSlot` and, when no drawn plot shows
+    up within ``timeout_ms``, shows a message with a button that asks the kernel for a
+    fresh copy of the figure.  It reports ``status`` ("waiting", "shown", "blank") back
+    to the kernel; a plot that turns up late hides the message again.
+    """
+
+    _esm = """
+    export default {
+      render({ model, el }) {
+        el.classList.add("posekit-plot-watch");
+        const box = document.createElement("div");
+        box.className = "posekit-plot-notice";
+        box.setAttribute("role", "alert");
+        box.style.cssText = "display:none;margin:6px 0;padding:8px 10px;border:1px solid #d9a441;" +
+          "background:#fff8e6;border-radius:4px;font-size:13px;line-height:1.4;color:#3d3000;" +
+          "overflow-wrap:anywhere;max-width:100%;box-sizing:border-box;";
+        const text = document.createElement("div");
+        text.className = "posekit-plot-notice-text";
+        text.textContent = model.get("message");
+        const button = document.createElement("button");
+        button.className = "posekit-plot-retry jupyter-button";
+        button.textContent = "Show the plot again";
+        button.style.cssText = "margin-top:6px;padding:2px 10px;cursor:pointer;";
+        button.addEventListener("click", () => {
+          button.disabled = true;
+          text.textContent = "Asking the kernel for a fresh plot (it answers once any running cell has finished)\u2026";
+          model.send({ event: "retry" });
+        });
+        box.append(text, button);
+        el.append(box);
+        const started = performance.now();
+        let status = "waiting";
+        const report = (s) => {
+          if (s === status) return;
+          status = s;
+          try { model.set("status", s); model.save_changes(); } catch (e) { /* the message is shown anyway */ }
+        };
+        const drawn = () => {
+          const slot = el.closest(".posekit-figure-slot");
+          if (!slot) return false;
+          const gd = slot.querySelector(".js-plotly-plot");
+          const want = Math.min(1, model.get("traces"));
+          return !!(gd && gd._fullLayout && gd.data && gd.data.length >= want);
+        };
+        const tick = () => {
+          if (drawn()) {
+            box.style.display = "none";
+            report("shown");
+            clearInterval(timer);
+          } else if (performance.now() - started > model.get("timeout_ms")) {
+            box.style.display = "block";
+            report("blank");
+          }
+        };
+        const timer = setInterval(tick, 250);
+        tick();
+        return () => clearInterval(timer);
+      }
+    };
+    """
+    #: What the page saw: "waiting" (not yet), "shown" (a drawn plot), "blank" (none in time).
+    status = t.Unicode("waiting").tag(sync=True)
+    #: How long the page waits for a drawn plot before it shows the message (milliseconds).
+    timeout_ms = t.Int(5000).tag(sync=True)
+    #: Traces the figure holds (a drawn plot with none of them counts as blank).
+    traces = t.Int(1).tag(sync=True)
+    message = t.Unicode("The plot did not appear: the page was too busy when it arrived. "
+                        "Nothing is lost; press the button to show it again.").tag(sync=True)
+
+
+class FigureSlot(w.VBox):
+    """Holds a :class:`LiveFigure` and its :class:`PlotWatch`; ``retry()`` shows a fresh copy.
+
+    ``figure`` is always the current figure widget (a retry replaces it with a copy of
+    its data and layout, so owners must read ``slot.figure`` each time).  ``on_figure``
+    callbacks run for every new figure (to attach click handlers again).  ``attempts``
+    counts the figures shown, ``ready`` is True once the page reported a drawn plot.
+    """
+
+    def __init__(self, fig, *, classes=(), timeout_ms: int = 5000, layout=None):
+        self._classes = tuple(classes)
+        self._timeout_ms = int(timeout_ms)
+        self._callbacks = []
+        self.attempts = 0
+        self.ready = False
+        self.figure = None
+        self.watch = None
+        width = getattr(getattr(fig, "layout", None), "width", None)
+        if layout is None:  # a figure of fixed width keeps it (never squeezed and clipped); else it follows the page
+            layout = (w.Layout(flex="0 0 auto", min_width=f"{int(width)}px") if width
+                      else w.Layout(flex="1 1 auto", min_width="0"))
+        super().__init__([], layout=layout)
+        self.add_class("posekit-figure-slot")
+        self._show(fig)
+
+    def _show(self, fig) -> None:
+        old_fig, old_watch = self.figure, self.watch
+        self.figure = fig if isinstance(fig, LiveFigure) and old_fig is None else LiveFigure(fig)
+        for c in self._classes:
+            self.figure.add_class(c)
+        self.watch = PlotWatch(timeout_ms=self._timeout_ms, traces=len(self.figure.data))
+        self.watch.observe(self._on_status, "status")
+        self.watch.on_msg(self._on_msg)
+        self.ready = False
+        self.attempts += 1
+        self.children = (self.figure, self.watch)
+        for cb in self._callbacks:
+            cb(self.figure)
+        for old in (old_fig, old_watch):
+            if old is not None:
+                old.close()
+
+    def on_figure(self, callback) -> None:
+        """Call ``callback(figure)`` now and for every fresh figure a retry shows."""
+        self._callbacks.append(callback)
+        callback(self.figure)
+
+    def retry(self) -> None:
+        """Show a fresh figure widget holding the current figure's data and layout."""
+        self._show(go.Figure(self.figure))
+
+    def _on_status(self, change) -> None:
+        self.ready = change["new"] == "shown"
+
+    def _on_msg(self, widget, content, buffers) -> None:
+        if isinstance(content, dict) and content.get("event") == "retry" and widget is self.watch:
+            self.retry()

@@ -7,49 +7,71 @@ One widget, opened with one call (``DebugDesk()``).  Glue only: the parser
 (:func:`~posekit.analysis.diagnose.diagnose`,
 :func:`~posekit.analysis.diagnose.diagnose_batch`) do all the work; the view layer
 draws.  State lives in traitlets only (``pasted``, ``pairs``, ``expected_source``,
-``expected_text``, ``expected_kind``, ``expected_matrix``, ``convention``,
-``chosen``, ``palette``); the diagnosis shown is always recomputed from them.
+``expected_text``, ``expected_kind``, ``expected_override``, ``expected_matrix``,
+``convention``, ``chosen``, ``palette``); the diagnosis shown is always recomputed
+from them.
+
+What was typed as the expected pose is guessed (words, or numbers by their count;
+angles without a unit are degrees, as everywhere in posekit) and said back in one
+line; each other reading of it is one button away.  The corrected numbers and code
+have copy buttons (the browser's clipboard, or the text selected in a read-only box
+where the page may not write the clipboard); "apply fix" pastes the corrected numbers
+in place of the ones you got and "undo" takes that back.  Whenever an input cannot be
+read, everything computed from it is cleared, not left showing the last result.
 """
 
 from __future__ import annotations
 
 import html
 import math
-from dataclasses import dataclass
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass, replace
 from typing import ClassVar
 
+import anywidget
 import ipywidgets as w
 import numpy as np
 import plotly.graph_objects as go
 import traitlets as t
 
-from ..analysis.diagnose import (BatchDiagnosis, Diagnosis, ExpectedPose, diagnose, diagnose_batch, expected_pose,
-                                 pose_from_words)
+from ..analysis.diagnose import (TYPED_UNIT, BatchDiagnosis, Diagnosis, ExpectedPose, ReadingChoice, diagnose,
+                                 diagnose_batch, expected_pose, expected_rows, pose_from_words)
 from ..io.paste import ParsedNumbers, parse_numbers
 from ..io.limits import PASTE_LIMIT
 from ..io.settings import Choice, ConventionText, Floats, IntRange, Text, WidgetSettings, register_settings, setting
 from ..io.state import NamedPose, State, environment_versions
-from ..core.convention import Convention
+from ..core.convention import CHOICES, DEFAULT, Convention
 from ..core.checks import as_numbers
 from ..core.errors import PoseInputError
 from ..core.reading import as_convention, write_rotation
 from ..core.transforms import Pose, make_transform, write_transform
-from ..view.diagnosis import error_html, parsed_html, residual_figure
+from ..view.diagnosis import choice_words, error_html, guess_html, parsed_html, plural, residual_figure
 from ..view.frames import body_points, frame_figure, frame_points
 from ..view.readouts import STYLE_SHEET, matrix_html, panel_html
 from .controls import ConventionBar, KeyboardScope, OneMessageFigure
 from .sharing import SharePanel, python_call
 
-__all__ = ["DebugDesk", "EXPECTED_KINDS", "DESK_FIELDS", "DeskSettings"]
+__all__ = ["DebugDesk", "EXPECTED_KINDS", "EXPECTED_OVERRIDES", "DESK_FIELDS", "DeskSettings", "CopyButton"]
 
 #: what the typed expected numbers are ("by count" lets the count decide, as expected_pose does)
 EXPECTED_KINDS = ("by count", "euler", "quaternion", "rotation-vector", "matrix", "transform", "position-euler",
-                  "position-quaternion")
+                  "position-quaternion", "position-rotation-vector")
+#: one convention field set for the expected numbers only ("none": the bar's fields, the unit guessed)
+EXPECTED_OVERRIDES = ("none", "unit=degrees", "unit=radians", "scalar=first", "scalar=last", "layout=row-major",
+                      "layout=column-major")
+#: the kind a count of numbers gives when no kind is chosen (as expected_pose reads them)
+_KIND_OF_COUNT = {3: "euler", 4: "quaternion", 6: "position-euler", 7: "position-quaternion", 9: "matrix",
+                  12: "transform", 16: "transform"}
+#: the desk's boxes, as messages name them
+_GOT_BOX = "the 'numbers you got' box"
+_EXPECTED_BOX = "the 'pose you expected' box"
 #: the convention fields the desk offers (the rest stay at posekit's defaults)
 DESK_FIELDS = ("sequence", "axes", "unit", "scalar", "algebra", "layout", "direction")
 _IDENTITY16 = tuple(float(v) for v in np.eye(4).ravel())
 _EXPECTED, _BODY, _AS_READ, _CORRECTED = 1, 2, 3, 4
-_SOURCES = (("numbers", "numbers"), ("a description in words", "words"), ("a pose passed in", "pose"))
+_SOURCES = (("typed: numbers or words", "numbers"), ("a description in words", "words"),
+            ("a pose passed in", "pose"))
 
 DESK_CSS = """<style>
 .posekit-desk .widget-html-content { line-height: 1.35; }
@@ -75,6 +97,19 @@ DESK_CSS = """<style>
 .posekit-desk ul.pk-same { margin: 2px 0 4px 0; padding: 0 10px 0 18px; font-size: 12px; color: #444; }
 .posekit-desk-detail .widget-html-content { overflow-wrap: anywhere; padding-right: 10px; }
 .posekit-desk textarea { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 12.5px; }
+.posekit-desk .pk-read-as { font-size: 12.5px; color: #1b4d1b; margin: 2px 0; }
+.posekit-desk .pk-unit-note { font-size: 12.5px; color: #7a4a00; background: #fff4e0; border: 1px solid #f0d3a0;
+  padding: 2px 6px; margin: 2px 0; border-radius: 3px; }
+.posekit-desk .pk-stale { font-size: 12.5px; color: #555; background: #f3f3f3; border: 1px dashed #aaa;
+  padding: 4px 6px; margin: 4px 0; }
+.posekit-desk-choices { flex-wrap: wrap; gap: 4px; align-items: center; }
+.posekit-desk-choices .widget-button { height: 24px; font-size: 12px; padding: 0 8px; width: auto; }
+.posekit-desk-actions { flex-wrap: wrap; gap: 6px; align-items: flex-start; }
+.posekit-desk-actions .widget-button { height: 26px; font-size: 12px; width: auto; }
+.posekit-desk .pk-copy { display: inline-flex; flex-direction: column; gap: 2px; }
+.posekit-desk .pk-copy-button { height: 26px; font-size: 12px; padding: 0 10px; cursor: pointer; }
+.posekit-desk .pk-copy-status { font-size: 11.5px; color: #555; }
+.posekit-desk textarea.pk-copy-box { width: 420px; font-size: 12px; }
 </style>"""
 
 
@@ -110,6 +145,72 @@ def _residual_words(e, batch: bool) -> str:
     return text
 
 
+class CopyButton(anywidget.AnyWidget):
+    """A small button that copies ``text`` to the clipboard, in the browser (no round trip to the kernel).
+
+    Where the page may not write the clipboard (a page that is no secure context, a browser
+    that refuses the permission), the text is shown in a read-only box beside it, selected,
+    so Ctrl+C copies it; the line under the button says which happened.  Disabled while
+    ``text`` is empty.
+    """
+
+    _esm = """
+    export default {
+      render({ model, el }) {
+        const wrap = document.createElement("div");
+        wrap.className = "pk-copy";
+        const button = document.createElement("button");
+        button.type = "button";
+        button.className = "pk-copy-button jupyter-button";
+        const status = document.createElement("span");
+        status.className = "pk-copy-status";
+        const box = document.createElement("textarea");
+        box.readOnly = true;
+        box.className = "pk-copy-box";
+        box.style.display = "none";
+        const show = () => {
+          const text = model.get("text");
+          button.textContent = model.get("label");
+          button.disabled = !text;
+          button.title = text ? "copy to the clipboard" : "nothing to copy yet";
+          box.value = text;
+          box.style.display = "none";
+          status.textContent = "";
+        };
+        const selectInBox = (why) => {
+          box.value = model.get("text");
+          box.rows = Math.min(10, box.value.split("\\n").length + 1);
+          box.style.display = "";
+          box.focus();
+          box.select();
+          status.textContent = "the clipboard is not available here (" + why + "): the text is selected below, "
+            + "press Ctrl+C (Cmd+C) to copy it";
+        };
+        button.addEventListener("click", async () => {
+          const text = model.get("text");
+          if (!text) return;
+          try {
+            if (!window.isSecureContext || !navigator.clipboard || !navigator.clipboard.writeText)
+              throw new Error("this page may not write the clipboard");
+            await navigator.clipboard.writeText(text);
+            box.style.display = "none";
+            status.textContent = "copied";
+          } catch (err) {
+            selectInBox(String((err && err.message) || err));
+          }
+        });
+        model.on("change:text", show);
+        model.on("change:label", show);
+        show();
+        wrap.append(button, status, box);
+        el.append(wrap);
+      }
+    };
+    """
+    text = t.Unicode("").tag(sync=True)
+    label = t.Unicode("copy").tag(sync=True)
+
+
 class _DeskShare(SharePanel):
     """The share panel, with the diagnosis lines written into the HTML report."""
 
@@ -137,6 +238,15 @@ class DeskSettings(WidgetSettings):
     convention: str = setting(ConventionText())
     chosen: int = setting(IntRange(0, 99))
     palette: str = setting(Choice("standard", "colour-blind"))
+    expected_override: str = setting(Choice(*EXPECTED_OVERRIDES))
+
+    @classmethod
+    def from_mapping(cls, mapping, path: str = "settings") -> "DeskSettings":
+        """As every widget's, except that a state written before ``expected_override`` existed reads as
+        ``"none"`` (what every desk did then); every other key is checked as usual."""
+        if isinstance(mapping, Mapping) and "expected_override" not in mapping:
+            mapping = {**mapping, "expected_override": "none"}
+        return super().from_mapping(mapping, path)
 
 
 class DebugDesk(w.VBox):
@@ -163,17 +273,20 @@ class DebugDesk(w.VBox):
     expected_matrix = t.Tuple(*[t.Float() for _ in range(16)], default_value=_IDENTITY16)
     convention = t.Unicode("sequence=z-y-x unit=degrees")
     chosen = t.Int(0)
-    palette = t.Unicode("standard")
+    palette = t.Unicode("colour-blind")
+    expected_override = t.Unicode("none")
 
     def __init__(self, observed=None, expected=None, *, pasted: str = "", pairs: str | None = None,
                  expected_source: str | None = None, expected_text: str = "", expected_kind: str = "by count",
                  expected_matrix=None, convention="sequence=z-y-x unit=degrees", chosen: int = 0,
-                 palette: str = "standard"):
+                 palette: str = "colour-blind", expected_override: str = "none"):
         conv = as_convention(convention)
         self._explorer = None
         self._diagnosis = None
         self._as_read = None
         self._building = True
+        self._undo: list[dict] = []
+        self._choices_shown = None
         matrix = _IDENTITY16 if expected_matrix is None else tuple(float(v) for v in np.ravel(expected_matrix))
         if len(matrix) != 16:
             raise PoseInputError(f"expected_matrix: got {len(matrix)} numbers; expected the 16 of a 4x4 transform")
@@ -199,6 +312,7 @@ class DebugDesk(w.VBox):
         for name, value, ok in (("pairs", pairs, ("one", "many")),
                                 ("expected_source", expected_source, tuple(v for _, v in _SOURCES)),
                                 ("expected_kind", expected_kind, EXPECTED_KINDS),
+                                ("expected_override", expected_override, EXPECTED_OVERRIDES),
                                 ("palette", palette, ("standard", "colour-blind"))):
             if value not in ok:
                 raise PoseInputError(f"{name}: got {value!r}; accepted: {', '.join(ok)}")
@@ -227,6 +341,10 @@ class DebugDesk(w.VBox):
         self.expected_box.add_class("posekit-desk-expected")
         self.expected_words = w.HTML(layout=w.Layout(width="100%"))
         self.expected_words.add_class("posekit-desk-expected-words")
+        self.read_as = w.HTML(layout=w.Layout(width="100%"))
+        self.read_as.add_class("posekit-desk-read-as")
+        self.choice_row = w.HBox([], layout=w.Layout(width="100%"))
+        self.choice_row.add_class("posekit-desk-choices")
         self.bar = ConventionBar(fields=DESK_FIELDS, initial={f: getattr(conv, f) for f in DESK_FIELDS})
         self.explanation_list = w.RadioButtons(options=[], layout=w.Layout(width="100%"))
         self.explanation_list.add_class("posekit-desk-list")
@@ -234,6 +352,21 @@ class DebugDesk(w.VBox):
         self.detail.add_class("posekit-desk-detail")
         self.code_box = w.Textarea(layout=w.Layout(width="100%", height="130px"))
         self.code_box.add_class("posekit-desk-code")
+        self.copy_numbers = CopyButton(label="copy corrected numbers")
+        self.copy_numbers.add_class("posekit-desk-copy-numbers")
+        self.copy_code = CopyButton(label="copy code")
+        self.copy_code.add_class("posekit-desk-copy-code")
+        self.apply_button = w.Button(description="apply fix", disabled=True,
+                                     tooltip="paste the corrected numbers in place of the numbers you got")
+        self.apply_button.add_class("posekit-desk-apply")
+        self.undo_button = w.Button(description="undo", disabled=True,
+                                    tooltip="one step back: the numbers and settings before the last fix")
+        self.undo_button.add_class("posekit-desk-undo")
+        self.action_status = w.HTML(layout=w.Layout(width="100%"))
+        self.action_status.add_class("posekit-desk-action-status")
+        self.actions = w.HBox([self.copy_numbers, self.copy_code, self.apply_button, self.undo_button],
+                              layout=w.Layout(width="100%"))
+        self.actions.add_class("posekit-desk-actions")
         self.palette_choice = w.ToggleButtons(options=[("standard colours", "standard"),
                                                        ("colour-blind safe", "colour-blind")], value=palette,
                                               style=w.ToggleButtonsStyle(button_width="auto"))
@@ -250,16 +383,17 @@ class DebugDesk(w.VBox):
         left = w.VBox([w.HTML("<div class='pk-section'>1. The numbers you got</div>"), self.pairs_choice,
                        self.paste_box, self.understood,
                        w.HTML("<div class='pk-section'>2. The pose you expected</div>"), self.source_choice,
-                       self.kind_choice, self.expected_box, self.expected_words],
+                       self.kind_choice, self.expected_box, self.read_as, self.choice_row, self.expected_words],
                       layout=w.Layout(width="440px", min_width="440px", padding="0 14px 0 0"))
         right = w.VBox([w.HTML("<div class='pk-section'>3. Explanations, most likely first "
                                "<span style='font-weight:normal;color:#666'>(keyboard: Tab to one, Space chooses it)</span></div>"),
                         self.explanation_list, self.detail, self.figure_box, self.residual_box,
                         w.HTML("<div class='pk-section'>Corrected reading — copy into your code</div>"),
-                        self.code_box, self.palette_choice],
+                        self.code_box, self.actions, self.action_status, self.palette_choice],
                        layout=w.Layout(flex="1 1 0", min_width="0", overflow="hidden", padding="0 6px 0 0"))
-        top = w.VBox([w.HTML("<div class='pk-section'>Your convention — how you wrote the expected numbers and "
-                             "how you read the ones you got</div>"), self.bar])
+        top = w.VBox([w.HTML("<div class='pk-section'>Your convention — how you read the numbers you got, and "
+                             "how the expected numbers were written (their unit is guessed: see the 'read as' "
+                             "line)</div>"), self.bar])
         self.share = _DeskShare(self, "desk-state")
         super().__init__([w.HTML(STYLE_SHEET + DESK_CSS), KeyboardScope(scope=".posekit-desk"), top,
                           w.HBox([left, right]), self.share])
@@ -275,6 +409,7 @@ class DebugDesk(w.VBox):
             self.expected_matrix = matrix
             self.chosen = int(chosen)
             self.palette = palette
+            self.expected_override = expected_override
 
         self.paste_box.observe(lambda ch: setattr(self, "pasted", ch["new"]), "value")
         self.expected_box.observe(lambda ch: setattr(self, "expected_text", ch["new"]), "value")
@@ -283,10 +418,12 @@ class DebugDesk(w.VBox):
         self.kind_choice.observe(lambda ch: setattr(self, "expected_kind", ch["new"]), "value")
         self.palette_choice.observe(lambda ch: setattr(self, "palette", ch["new"]), "value")
         self.explanation_list.observe(self._on_pick, "value")
+        self.apply_button.on_click(lambda _: self.apply_fix())
+        self.undo_button.on_click(lambda _: self.undo())
         for ctl in self.bar.controls.values():
             ctl.observe(self._on_setting, "value")
         self.observe(self._on_inputs, ["pasted", "pairs", "expected_source", "expected_text", "expected_kind",
-                                       "expected_matrix", "convention"])
+                                       "expected_override", "expected_matrix", "convention"])
         self.observe(self._on_chosen, ["chosen"])
         self.observe(self._on_palette, ["palette"])
         if isinstance(expected, _explorer_type()):
@@ -349,9 +486,20 @@ class DebugDesk(w.VBox):
     def convention_value(self) -> Convention:
         return Convention.parse(self.convention)
 
+    def expected_convention(self) -> str | None:
+        """The convention text the expected numbers are read with: the bar's fields that differ from
+        posekit's defaults except the unit (angles typed without one are degrees, the other unit scored
+        too), plus the one field chosen for the expected numbers only (``expected_override``)."""
+        conv = self.convention_value()
+        pairs = {f: getattr(conv, f) for f in CHOICES if f != "unit" and getattr(conv, f) != getattr(DEFAULT, f)}
+        if self.expected_override != "none":
+            field, _, value = self.expected_override.partition("=")
+            pairs[field] = value
+        return " ".join(f"{k}={v}" for k, v in pairs.items()) or None
+
     def expected(self) -> ExpectedPose:
         """The expected pose (one, or a batch in the several-pairs mode) the inputs describe."""
-        conv = self.convention_value()
+        conv = self.expected_convention()
         kind = None if self.expected_kind == "by count" else self.expected_kind
         if self.expected_source == "pose":
             return expected_pose(Pose(np.asarray(self.expected_matrix, dtype=float).reshape(4, 4)))
@@ -359,40 +507,122 @@ class DebugDesk(w.VBox):
             if self.expected_source == "words":
                 return pose_from_words(self.expected_text)
             return expected_pose(self.expected_text, kind, conv)
+        lines = _lines(self.expected_text)
+        if not lines:
+            raise PoseInputError(f"{_EXPECTED_BOX} is empty; accepted: one pose per line, or one pose for every "
+                                 "pair")
+        if self.expected_source == "numbers":
+            rows = _plain_rows(lines)
+            if rows is not None:  # plain numbers on every line: one reading for all of them
+                return expected_rows(rows, kind, conv)
         poses = []
-        for number, line in _lines(self.expected_text):
+        for number, line in lines:
             try:
                 poses.append(pose_from_words(line) if self.expected_source == "words"
                              else expected_pose(line, kind, conv))
             except PoseInputError as exc:
-                raise type(exc)(f"expected pose, line {number}: {exc}") from None
-        if not poses:
-            raise PoseInputError("expected pose: no lines typed; type one pose per line (or one for every pair)")
+                raise _retyped(exc, f"{_EXPECTED_BOX}, line {number}: {exc}") from None
         rot = np.stack([p.rotation for p in poses])
         tr = None if any(p.translation is None for p in poses) else np.stack([p.translation for p in poses])
-        return ExpectedPose(rot, tr, f"{len(poses)} expected poses typed as lines")
+        return ExpectedPose(rot, tr, f"{plural(len(poses), 'expected pose')} typed as lines",
+                            guess=poses[0].guess)
 
     def _observed_lines(self):
         rows = []
         for number, line in _lines(self.pasted):
             try:
-                rows.append(parse_numbers(line))
+                rows.append((number, parse_numbers(line)))
             except PoseInputError as exc:
                 raise _LineError(exc, number) from None
         if not rows:
-            raise PoseInputError("no lines pasted; paste one pose per line")
-        counts = {p.count for p in rows}
-        if len(counts) > 1:
-            raise PoseInputError(f"the pasted lines hold different counts of numbers ({sorted(counts)}); "
-                                 "every line must be one pose written the same way")
-        return rows
+            raise PoseInputError(f"{_GOT_BOX} is empty; accepted: one pose per line")
+        first_line, first = rows[0]
+        odd = next(((n, p) for n, p in rows if p.count != first.count), None)
+        if odd is not None:
+            raise PoseInputError(f"{_GOT_BOX}: line {odd[0]} holds {plural(odd[1].count, 'number')} but line "
+                                 f"{first_line} holds {first.count}; accepted: every line one pose written the "
+                                 "same way")
+        return [p for _, p in rows]
+
+    # --- one click: another reading of the expected input, the fix, and back -------------
+    def choose_reading(self, choice: ReadingChoice) -> None:
+        """Read the expected input as ``choice`` (one of ``expected().guess.alternatives``): a kind, or one
+        field for the expected numbers only.  Choosing what the guess would pick anyway goes back to it."""
+        if choice.field == "kind":
+            count = None
+            try:
+                guess = self.expected().guess
+                count = None if guess is None else guess.count
+            except PoseInputError:
+                pass
+            self.expected_kind = "by count" if _KIND_OF_COUNT.get(count) == choice.value else choice.value
+            return
+        plain = TYPED_UNIT if choice.field == "unit" else getattr(self.convention_value(), choice.field)
+        override = f"{choice.field}={choice.value}"
+        if override not in EXPECTED_OVERRIDES:
+            raise PoseInputError(f"reading of the expected numbers: got {override!r}; accepted: "
+                                 + ", ".join(EXPECTED_OVERRIDES[1:]))
+        self.expected_override = "none" if choice.value == plain else override
+
+    def apply_fix(self) -> None:
+        """Paste the chosen explanation's corrected numbers in place of the numbers you got (and read the
+        expected angles in the unit that explanation took); :meth:`undo` restores what was there before."""
+        d, e = self._diagnosis, self.chosen_explanation()
+        if d is None or e is None:
+            self.action_status.value = "<div class='pk-words'>Nothing to apply: no explanation is shown.</div>"
+            return
+        before = self._settings()
+        changes = {"pasted": _numbers_text(np.asarray(e.corrected_numbers, dtype=float)
+                                           if isinstance(d, BatchDiagnosis) else e.corrected_numbers)}
+        exp = getattr(self, "_expected_value", None)
+        guess = None if exp is None else exp.guess
+        if exp is not None and e.expected_reading and e.expected_reading != exp.reading and guess is not None:
+            unit = next((c for c in guess.alternatives if c.field == "unit"), None)
+            if unit is not None:  # the explanation read the expected angles in the other unit
+                plain = TYPED_UNIT
+                changes["expected_override"] = "none" if unit.value == plain else f"unit={unit.value}"
+        self._undo.append(before)
+        self._set_all(changes)
+        self.undo_button.disabled = False
+        self.action_status.value = ("<div class='pk-words'>Fix applied: the corrected numbers replaced the numbers "
+                                    "you got" + (", and the expected angles are read in "
+                                                 + html.escape(changes["expected_override"].partition("=")[2])
+                                                 if changes.get("expected_override", "none") != "none" else "")
+                                    + ". 'undo' puts back what was there before.</div>")
+
+    def undo(self) -> None:
+        """One step back: the numbers and settings from before the last 'apply fix'."""
+        if not self._undo:
+            self.action_status.value = "<div class='pk-words'>Nothing to undo.</div>"
+            return
+        self._set_all(self._undo.pop())
+        self.undo_button.disabled = not self._undo
+        self.action_status.value = "<div class='pk-words'>Undone: the numbers and settings before the fix are " \
+                                   "back.</div>"
+
+    def _set_all(self, values: dict) -> None:
+        """Set several settings at once and recompute once (the explanation chosen is kept)."""
+        chosen = values.get("chosen")
+        self._building = True
+        try:
+            with self.hold_trait_notifications():
+                for name, value in values.items():
+                    if name != "chosen":
+                        setattr(self, name, tuple(value) if name == "expected_matrix" else value)
+        finally:
+            self._building = False
+        self._recompute(keep_choice=chosen is None)
+        if chosen is not None:
+            self.chosen = min(int(chosen), max(len(self.explanation_list.options) - 1, 0))
+            self._show_choice()
 
     # --- sharing ------------------------------------------------------------------------
     def _settings(self) -> dict:
         return DeskSettings(pasted=self.pasted, pairs=self.pairs, expected_source=self.expected_source,
                             expected_text=self.expected_text, expected_kind=self.expected_kind,
                             expected_matrix=tuple(float(v) for v in self.expected_matrix),
-                            convention=self.convention, chosen=int(self.chosen), palette=self.palette).as_dict()
+                            convention=self.convention, chosen=int(self.chosen), palette=self.palette,
+                            expected_override=self.expected_override).as_dict()
 
     def to_state(self, notes: str = "") -> State:
         """The pasted text, expected pose and chosen explanation (plus the poses drawn) as a State."""
@@ -424,6 +654,9 @@ class DebugDesk(w.VBox):
         if d is None:
             return ["no diagnosis: the inputs could not be read"]
         lines = [d.verdict, f"observed: {d.assumed_reading}", d.expected_reading]
+        exp = getattr(self, "_expected_value", None)
+        if exp is not None and exp.guess is not None:
+            lines.append("expected " + exp.guess.line() + (f" (note: {exp.guess.note()})" if exp.guess.note() else ""))
         if isinstance(d, BatchDiagnosis):
             lines.append(f"{d.pairs} pairs; " + ("one explanation fits every pair" if d.consistent
                                                  else "no single convention error fits every pair"))
@@ -488,57 +721,66 @@ class DebugDesk(w.VBox):
         self._as_read = None
         many = self.pairs == "many"
         observed = None
+        unreadable = []   # which inputs cannot be read now: everything computed from them is cleared
         try:
             if many:
                 rows = self._observed_lines()
-                self.understood.value = (f"<div class='pk-ok'>{len(rows)} pairs: {len(rows)} lines of "
-                                         f"{rows[0].count} numbers each</div>") + parsed_html(rows[0], limit=4)
+                n = len(rows)
+                self.understood.value = (f"<div class='pk-ok'>{plural(n, 'pair')}: {plural(n, 'line')} of "
+                                         f"{plural(rows[0].count, 'number')} each</div>") + parsed_html(rows[0],
+                                                                                                       limit=4)
                 observed = np.stack([p.numbers for p in rows])
             elif not self.pasted.strip():
                 self.understood.value = ("<div class='pk-words'>Nothing pasted yet: paste or type the numbers "
                                          "above.</div>")
+                unreadable.append(f"{_GOT_BOX} is empty")
             else:
                 observed = parse_numbers(self.pasted)
                 self.understood.value = parsed_html(observed)
         except PoseInputError as exc:
             self.understood.value = error_html(exc.inner if isinstance(exc, _LineError) else exc) + \
-                (f"<div class='pk-words'>on pasted line {exc.line_number}</div>" if isinstance(exc, _LineError)
+                (f"<div class='pk-words'>in {_GOT_BOX}, line {exc.line_number}</div>" if isinstance(exc, _LineError)
                  else "")
             observed = None
+            unreadable.append(f"{_GOT_BOX} cannot be read")
         try:
             exp = self.expected()
             self.expected_words.value = self._expected_html(exp)
         except PoseInputError as exc:
             self.expected_words.value = error_html(exc)
             exp = None
+            unreadable.append(f"{_EXPECTED_BOX} cannot be read")
+        self._show_guess(exp)
+        problem = None
         if observed is not None and exp is not None:
             try:
                 if many:
-                    if exp.rotation.ndim == 2:
-                        n = observed.shape[0]
-                        exp = ExpectedPose(np.repeat(exp.rotation[None], n, 0),
-                                           None if exp.translation is None else np.repeat(exp.translation[None], n, 0),
-                                           exp.source)
-                    elif exp.rotation.shape[0] == 1:
-                        n = observed.shape[0]
-                        exp = ExpectedPose(np.repeat(exp.rotation, n, 0),
-                                           None if exp.translation is None else np.repeat(exp.translation, n, 0),
-                                           exp.source)
+                    n = observed.shape[0]
+                    k = 1 if exp.rotation.ndim == 2 else exp.rotation.shape[0]
+                    if k not in (1, n):
+                        raise PoseInputError(f"{_GOT_BOX} has {plural(n, 'line')} but {_EXPECTED_BOX} has "
+                                             f"{plural(k, 'pose')}; accepted: one expected pose per line you got, or "
+                                             "one expected pose for all of them")
+                    if k == 1:
+                        rot = exp.rotation if exp.rotation.ndim == 3 else exp.rotation[None]
+                        tr = None if exp.translation is None else np.reshape(exp.translation, (1, 3))
+                        exp = replace(exp, rotation=np.repeat(rot, n, 0),
+                                      translation=None if tr is None else np.repeat(tr, n, 0))
                     self._diagnosis = diagnose_batch(exp, observed, expected_convention=self.convention_value())
                 else:
+                    if exp.rotation.ndim != 2:
+                        raise PoseInputError(f"{_EXPECTED_BOX} holds {plural(exp.rotation.shape[0], 'pose')} but "
+                                             "'one pose' is chosen above; accepted: one expected pose, or choose "
+                                             "'several pairs, one per line'")
                     self._diagnosis = diagnose(exp, observed, expected_convention=self.convention_value())
             except PoseInputError as exc:
-                self.detail.value = error_html(exc)
+                problem = exc
         self._expected_value = exp
         d = self._diagnosis
         if d is None:
-            self.explanation_list.options = []
-            self.code_box.value = ""
-            if observed is None or exp is None:
-                self.detail.value = ("<div class='pk-words'>The explanations appear as soon as both the numbers "
-                                     "you got and the pose you expected can be read.</div>")
-            self._show_figure(None)
+            self._clear_results(unreadable, problem)
             return
+        self.apply_button.disabled = False
         if isinstance(d, Diagnosis):
             self._as_read = d.as_read
         batch = isinstance(d, BatchDiagnosis)
@@ -561,10 +803,67 @@ class DebugDesk(w.VBox):
                                   rotation_tolerance=math.radians(0.5), width=470)
             self.residual_figure = go.FigureWidget(fig)
             self.residual_box.children = [self.residual_figure]
+        else:
+            self.residual_figure = None
+            self.residual_box.children = []
+
+    def _clear_results(self, unreadable: list[str], problem) -> None:
+        """No diagnosis: clear every output computed from the inputs (list, detail, code, copy texts, chart,
+        overlays) and say in words why, so nothing from an earlier input stays on show."""
+        self.explanation_list.options = []
+        self.code_box.value = ""
+        self.copy_numbers.text = ""
+        self.copy_code.text = ""
+        self.apply_button.disabled = True
+        self.residual_figure = None
+        self.residual_box.children = []
+        self.residual_box.layout.display = "none"
+        self.figure_box.layout.display = "none" if self.pairs == "many" else None
+        if problem is not None:
+            why = error_html(_in_desk_words(problem))
+        elif unreadable:
+            why = f"<div class='pk-words'>{html.escape(' and '.join(unreadable))}.</div>"
+        else:
+            why = ""
+        self.detail.value = why + ("<div class='pk-stale'>No explanation shown: the explanations, the corrected "
+                                   "numbers and code, and the chart appear as soon as both the numbers you got and "
+                                   "the pose you expected can be read; nothing from an earlier input is kept on "
+                                   "show.</div>")
+        self._show_figure(None)
+
+    def _show_guess(self, exp: ExpectedPose | None) -> None:
+        """The one 'read as' line of the expected input, a note when its magnitudes point to the other unit,
+        and one button per other reading."""
+        guess = None if exp is None else exp.guess
+        if guess is None or self.expected_source == "pose":
+            self.read_as.value = ""
+            choices = ()
+        else:
+            unit = next((c for c in guess.alternatives if c.field == "unit"), None)
+            action = "" if unit is None else f"; if they are {unit.value}, click '{choice_words(unit)}' below"
+            self.read_as.value = guess_html(guess, action)
+            choices = guess.alternatives
+        key = tuple((c.field, c.value, c.kind) for c in choices)
+        if key == self._choices_shown:
+            return
+        self._choices_shown = key
+        buttons = []
+        for c in choices:
+            b = w.Button(description=choice_words(c), tooltip=f"read the expected input as {choice_words(c)}",
+                         layout=w.Layout(width="auto"))
+            b.add_class("posekit-desk-choice")
+            b.add_class(f"posekit-desk-choice-{c.field}")
+            b.on_click(lambda _, c=c: self.choose_reading(c))
+            buttons.append(b)
+        old = self.choice_row.children
+        self.choice_row.children = ([w.HTML("<span class='pk-words'>or read it as:</span>")] + buttons) if buttons \
+            else []
+        for child in old:
+            child.close()
 
     def _expected_html(self, exp: ExpectedPose) -> str:
         if exp.rotation.ndim != 2:
-            return f"<div class='pk-ok'>{exp.rotation.shape[0]} expected poses, one per line</div>"
+            return f"<div class='pk-ok'>{plural(exp.rotation.shape[0], 'expected pose')}, one per line</div>"
         return ("<div class='pk-ok'>understood: " + html.escape(exp.source) + "</div>"
                 + panel_html("expected pose, canonical 4x4 (child → parent)", matrix_html(exp.matrix, 4)))
 
@@ -608,7 +907,8 @@ class DebugDesk(w.VBox):
                  f"<div class='pk-words'>observed {html.escape(d.assumed_reading)}</div>",
                  f"<div class='pk-words'>{html.escape(d.expected_reading)}</div>",
                  f"<div class='pk-sentence'>{html.escape(e.sentence)}</div>",
-                 f"<div class='pk-words'>{html.escape(_residual_words(e, batch))}; {e.deviations:g} deviation(s) "
+                 f"<div class='pk-words'>{html.escape(_residual_words(e, batch))}; {e.deviations:g} "
+                 f"deviation{'' if e.deviations == 1 else 's'} "
                  f"from your reading; cost {e.cost:.3g}</div>", f"<div>{marks}</div>" if marks else ""]
         if e.equivalents:
             shown = "".join(f"<li>{html.escape(s)}</li>" for s in e.equivalents[:3])
@@ -640,6 +940,8 @@ class DebugDesk(w.VBox):
         self.detail.value = "".join(parts)
         if self.code_box.value != e.code:
             self.code_box.value = e.code
+        self.copy_code.text = e.code
+        self.copy_numbers.text = _corrected_text(e.corrected_numbers)
         if not batch:
             self._show_figure(e)
 
@@ -690,7 +992,51 @@ class _LineError(PoseInputError):
     def __init__(self, inner, line_number: int):
         self.inner = inner
         self.line_number = line_number
-        super().__init__(f"pasted line {line_number}: {inner}")
+        super().__init__(f"{_GOT_BOX}, line {line_number}: {inner}")
+
+
+def _corrected_text(numbers) -> str:
+    """Corrected numbers as copied: as shown (9 significant digits), comma-separated, one pose per line."""
+    rows = numbers if numbers and isinstance(numbers[0], tuple) else (numbers,)
+    return "\n".join(", ".join(f"{v:.9g}" for v in row) for row in rows)
+
+
+def _plain_rows(lines) -> np.ndarray | None:
+    """The typed lines as an (N, n) array when every line is plain numbers of the same count, else None
+    (words, named values, a unit word or a bad line: read line by line, so errors name their line)."""
+    rows = []
+    for _, line in lines:
+        try:
+            parsed = parse_numbers(line)
+        except PoseInputError:
+            return None
+        if parsed.names:
+            return None
+        rows.append(np.asarray(parsed.numbers, dtype=float).reshape(-1))
+    if len({r.size for r in rows}) != 1:
+        return None
+    return np.stack(rows)
+
+
+def _retyped(exc: PoseInputError, message: str) -> PoseInputError:
+    """The same kind of error with a message that names where in the desk it happened."""
+    try:
+        return type(exc)(message)
+    except TypeError:  # an error type that needs more than a message
+        return PoseInputError(message)
+
+
+_FUNCTION_PREFIX = re.compile(r"^(?:diagnose_batch|diagnose|expected pose|reading): ")
+
+
+def _in_desk_words(exc: PoseInputError) -> PoseInputError:
+    """An analysis error as the desk says it: no Python function names, the desk's boxes instead."""
+    text = str(exc)
+    new = _FUNCTION_PREFIX.sub("", text)
+    new = new.replace("observed numbers", "the numbers you got").replace("observed quaternion",
+                                                                          "the quaternion you got")
+    new = re.sub(r"\bdiagnose_batch\b|\bdiagnose\(\)|\bdiagnose\b", "the desk", new)
+    return exc if new == text else _retyped(exc, new)
 
 
 def _explorer_type():

@@ -7,13 +7,13 @@ from them by posekit's core, never stored a second time.
 
 from __future__ import annotations
 
+import asyncio
 import math
 from dataclasses import dataclass
 from typing import ClassVar
 
 import ipywidgets as w
 import numpy as np
-import plotly.graph_objects as go
 import traitlets as t
 
 from ..core.convention import Convention
@@ -22,17 +22,37 @@ from ..core.reading import as_convention, read_rotation, write_rotation
 from ..analysis.singularity import pole_readout
 from ..core.steps import euler_steps
 from ..core.transforms import Pose, make_transform, write_transform
-from ..view.frames import body_points, frame_figure, frame_points
-from ..view.readouts import STYLE_SHEET, gauge_html, matrix_html, numbers_html, panel_html, row_html, words_html
+from ..view.frames import (DEFAULT_PALETTE, FRAME_UIDS, auto_scale, body_points, frame_figure, frame_points,
+                           frame_key_html, frame_trace, palette_colours)
+from ..view.readouts import (STYLE_SHEET, format_number, gauge_html, matrix_html, numbers_html, panel_html, row_html,
+                             words_html)
 from ..io.settings import Bool, Choice, ConventionText, Floats, WidgetSettings, register_settings, setting
 from ..io.state import NamedPose, State, environment_versions
-from .controls import ConventionBar, KeyboardScope, NumberRow, OneMessageFigure
+from .controls import ConventionBar, FigureSlot, KeyboardScope, NumberRow
 from .sharing import SharePanel, python_call
 
 __all__ = ["Explorer", "ExplorerSettings"]
 
-_FRAME, _BODY, _STEP1, _STEP2 = 1, 2, 3, 4
-EXTENT = 1.9  # fixed scene range, so the view never rescales while a slider moves
+_MOVING = (FRAME_UIDS["frame"], FRAME_UIDS["body"], FRAME_UIDS["step1"], FRAME_UIDS["step2"])
+_ARROWS = (FRAME_UIDS["parent"], FRAME_UIDS["frame"], FRAME_UIDS["step1"], FRAME_UIDS["step2"])
+EXTENT = 1.9  # scene range while the origin stays within the sliders' +-1 m: no rescale while a slider moves
+SLIDER_REACH = 1.0  # the position sliders' range, metres
+FIGURE_WIDTH = 500  # pixels; beside the 450-pixel controls, or below them in a narrow page
+#: Seconds the readout panels trail the plot inside a running kernel: the plot is the live
+#: feedback of a slider and reaches the page first; the numbers follow (at most this often).
+READOUT_DELAY = 0.06
+UNIT = "m"
+
+
+def _scene_size(origin) -> tuple[float, float]:
+    """(arrow length, scene half-range) for an origin: fixed within the sliders' reach, else fitted to it."""
+    reach = float(np.max(np.abs(origin)))
+    if reach <= SLIDER_REACH:
+        return 1.0, EXTENT
+    scale = max(1.0, auto_scale(origin))
+    need = reach + 1.1 * scale
+    step = 10.0 ** np.floor(np.log10(need)) / 2.0
+    return scale, float(np.ceil(need / step) * step)
 
 
 def _ranges(conv: Convention):
@@ -70,12 +90,13 @@ class Explorer(w.VBox):
     keep = t.Unicode("numbers")
     show_steps = t.Bool(True)
     show_body = t.Bool(True)
-    palette = t.Unicode("standard")
+    palette = t.Unicode(DEFAULT_PALETTE)
 
     def __init__(self, angles=(0.0, 0.0, 0.0), translation=(0.0, 0.0, 0.0),
                  convention="sequence=z-y-x unit=degrees", keep: str = "numbers", show_steps: bool = True,
-                 show_body: bool = True, palette: str = "standard"):
+                 show_body: bool = True, palette: str = DEFAULT_PALETTE):
         conv = as_convention(convention)
+        palette_colours(palette)  # unknown names raise, naming the known ones
         if keep not in ("numbers", "orientation"):
             raise PoseInputError(f"keep: got {keep!r}; accepted: 'numbers' (same numbers, new meaning) or "
                                  "'orientation' (same orientation, new numbers)")
@@ -83,12 +104,15 @@ class Explorer(w.VBox):
         del a
         self._syncing = False
         self._synced_convention = None  # the convention the controls last showed
+        self._readout_args = None  # what the readouts will show next
+        self._readout_timer = None  # a pending readout update (inside a running kernel)
         lo, hi, step = _ranges(conv)
         angle_values = [float(v) for v in np.asarray(angles, dtype=float)]
         self.angle_rows = [NumberRow(self._angle_label(conv, i), angle_values[i], lo, hi, step, f"angle-{i + 1}")
                            for i in range(3)]
         tr = [float(v) for v in np.asarray(translation, dtype=float)]
-        self.translation_rows = [NumberRow(f"along parent {c}", tr[i], -1.0, 1.0, 0.05, f"move-{c}")
+        self.translation_rows = [NumberRow(f"along parent {c} <span style='color:#888'>{UNIT}</span>", tr[i],
+                                           -SLIDER_REACH, SLIDER_REACH, 0.05, f"move-{c}")
                                  for i, c in enumerate("xyz")]
         self.bar = ConventionBar(initial={f: getattr(conv, f) for f in conv.__dataclass_fields__})
         self.keep_choice = w.RadioButtons(options=[("keep the numbers (see what they mean now)", "numbers"),
@@ -98,18 +122,24 @@ class Explorer(w.VBox):
         self.steps_box = w.Checkbox(value=show_steps, description="show the frame after each turn", indent=False)
         self.body_box = w.Checkbox(value=show_body, description="show the body (nose +x, fin +z)",
                                    indent=False)
-        self.palette_choice = w.ToggleButtons(options=[("standard colours", "standard"),
-                                                       ("colour-blind safe", "colour-blind")], value=palette,
+        self.palette_choice = w.ToggleButtons(options=[("colour-blind safe", "colour-blind"),
+                                                       ("standard colours", "standard")], value=palette,
                                               style=w.ToggleButtonsStyle(button_width="auto"))
+        self.palette_choice.add_class("posekit-palette")
         self.words = w.HTML()
         self.readouts = w.HTML(layout=w.Layout(width="100%"))
         self.readouts.add_class("posekit-readouts")
 
         rot = read_rotation(angle_values, "euler", conv)
         steps = euler_steps(angle_values, conv).frames
-        fig = frame_figure(rot, tr, steps=steps, body=True, palette=palette, extent=EXTENT, height=520)
-        self.figure = OneMessageFigure(fig)
-        self.figure.add_class("posekit-figure")
+        self._size = _scene_size(tr)
+        fig = frame_figure(rot, tr, steps=steps, body=True, palette=palette, scale=self._size[0],
+                           extent=self._size[1], height=480, unit=UNIT, legend=False)
+        fig.update_layout(width=FIGURE_WIDTH)  # a fixed size: the page draws it whole, never clipped
+        self._shown = {"body": True, "steps": True}  # as frame_figure draws them; _refresh applies the flags
+        self.plot = FigureSlot(fig, classes=("posekit-figure",))
+        self.key = w.HTML(frame_key_html(palette), layout=w.Layout(width=f"{FIGURE_WIDTH}px"))
+        self.key.add_class("posekit-frame-key")
 
         left = w.VBox([w.HTML("<b>Angles</b> (as entered)")] + self.angle_rows +
                       [w.HTML("<b>Position</b> of the child origin, parent coordinates")] + self.translation_rows +
@@ -119,7 +149,9 @@ class Explorer(w.VBox):
         top = w.VBox([w.HTML("<b>Convention</b> — every choice that gives the numbers their meaning"), self.bar,
                       self.words])
         super().__init__([w.HTML(STYLE_SHEET), KeyboardScope(scope=".posekit-explorer"), top,
-                          w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]), self.readouts,
+                          w.HBox([left, w.VBox([self.plot, self.key])],
+                                 layout=w.Layout(width="100%", flex_flow="row wrap")),
+                          self.readouts,
                           SharePanel(self, "explorer-state")])
         self.add_class("posekit-explorer")
 
@@ -134,10 +166,10 @@ class Explorer(w.VBox):
 
         for i, row in enumerate(self.angle_rows):
             row.observe_slider(lambda ch, i=i: self._set_angle(i, ch["new"], from_slider=True))
-            row.box.observe(lambda ch, i=i: self._set_angle(i, ch["new"], from_slider=False), "value")
+            row.observe_box(lambda v, i=i: self._set_angle(i, v, from_slider=False))
         for i, row in enumerate(self.translation_rows):
             row.observe_slider(lambda ch, i=i: self._set_move(i, ch["new"], True))
-            row.box.observe(lambda ch, i=i: self._set_move(i, ch["new"], False), "value")
+            row.observe_box(lambda v, i=i: self._set_move(i, v, False))
         for ctl in self.bar.controls.values():
             ctl.observe(self._on_setting, "value")
         self.keep_choice.observe(lambda ch: setattr(self, "keep", ch["new"]), "value")
@@ -147,6 +179,11 @@ class Explorer(w.VBox):
         self.observe(self._on_state, ["angles", "translation", "convention", "show_steps", "show_body"])
         self.observe(self._on_palette, ["palette"])
         self._refresh()
+
+    @property
+    def figure(self):
+        """The live plotly figure widget (a retry in its :class:`FigureSlot` replaces it)."""
+        return self.plot.figure
 
     # --- building from and exporting to posekit values ---------------------------------
     @classmethod
@@ -249,15 +286,15 @@ class Explorer(w.VBox):
             self.convention = new.to_text()
 
     def _on_palette(self, change) -> None:
-        conv = self.convention_value()
-        fig = frame_figure(self.rotation(), self.translation, steps=euler_steps(self.angles, conv).frames, body=True,
-                           palette=self.palette, extent=EXTENT, height=520)
-        with self.figure.batch_update():
-            for k, trace in enumerate(fig.data):
-                for part in ("line", "marker", "textfont"):
-                    if part in trace:  # the body is a mesh: it has none of them
-                        self.figure.data[k][part] = trace[part]
-        self._refresh()
+        per_point = list(frame_trace(np.eye(3), palette=self.palette).line.color)  # a colour per arrow point
+        self.key.value = frame_key_html(self.palette)
+        fig = self.figure
+        with fig.batch_update():  # plotly's public batched update: the arrows of every frame, found by uid
+            for uid in _ARROWS:
+                trace = fig.trace(uid)
+                trace.line.color = per_point
+                trace.marker.color = per_point
+                trace.textfont.color = per_point
 
     def _on_state(self, change) -> None:
         self._refresh()
@@ -283,24 +320,62 @@ class Explorer(w.VBox):
 
     def _refresh(self) -> None:
         conv = self.convention_value()
-        self._sync_controls(conv)
         rot = read_rotation(self.angles, "euler", conv)
         origin = np.asarray(self.translation, dtype=float)
         steps = euler_steps(self.angles, conv)
+        size = _scene_size(origin)
+        if size != self._size:
+            self._resize(size)
+        scale = size[0]
         # rot and the steps come straight from the core: no second check of the rotations
-        fx, fy, fz = frame_points(rot, origin, check=False)
-        body = body_points(rot, origin, check=False)
-        xs, ys, zs = [fx, body[:, 0].tolist()], [fy, body[:, 1].tolist()], [fz, body[:, 2].tolist()]
+        fx, fy, fz = frame_points(rot, origin, scale, check=False)
+        body = body_points(rot, origin, scale, check=False)
+        data = {FRAME_UIDS["frame"]: (fx, fy, fz), FRAME_UIDS["body"]: (body[:, 0].tolist(), body[:, 1].tolist(),
+                                                                        body[:, 2].tolist())}
         for k in (1, 2):
-            sx, sy, sz = frame_points(steps.frames[k], origin, 0.8, check=False)
-            xs.append(sx), ys.append(sy), zs.append(sz)
-        # one restyle message with only the changed trace data (no figure rebuild)
-        self.figure.plotly_restyle({"x": xs, "y": ys, "z": zs,
-                                    "visible": [True, self.show_body, self.show_steps, self.show_steps]},
-                                   trace_indexes=[_FRAME, _BODY, _STEP1, _STEP2])
-        html = self._readout_html(conv, rot, origin, steps)
+            data[FRAME_UIDS[f"step{k}"]] = frame_points(steps.frames[k], origin, 0.8 * scale, check=False)
+        # the plot first (one public plotly restyle, traces found by uid), then the controls and readouts
+        self.figure.restyle({uid: {"x": p[0], "y": p[1], "z": p[2]} for uid, p in data.items()})
+        shown = {"body": bool(self.show_body), "steps": bool(self.show_steps)}
+        if shown != self._shown:
+            self._shown = shown
+            self.figure.restyle({FRAME_UIDS["body"]: {"visible": shown["body"]},
+                                 FRAME_UIDS["step1"]: {"visible": shown["steps"]},
+                                 FRAME_UIDS["step2"]: {"visible": shown["steps"]}})
+        self._sync_controls(conv)
+        self._readout_args = (conv, rot, origin, steps)
+        try:
+            loop = asyncio.get_running_loop()  # a kernel answering widget messages runs one
+        except RuntimeError:
+            loop = None
+        if loop is None:
+            self.flush_readouts()
+        elif self._readout_timer is None:
+            self._readout_timer = loop.call_later(READOUT_DELAY, self.flush_readouts)
+
+    def flush_readouts(self) -> None:
+        """Bring the readout panels up to date now (a pending delayed update is done here)."""
+        if self._readout_timer is not None:
+            self._readout_timer.cancel()
+            self._readout_timer = None
+        if self._readout_args is None:
+            return
+        html = self._readout_html(*self._readout_args)
+        self._readout_args = None
         if html != self.readouts.value:
             self.readouts.value = html
+
+    def _resize(self, size) -> None:
+        """New arrow length and scene range (an origin beyond the sliders' reach, or back within it)."""
+        self._size = size
+        scale, extent = size
+        fig = self.figure
+        px, py, pz = frame_points(np.eye(3), None, scale, check=False)
+        with fig.batch_update():
+            parent = fig.trace(FRAME_UIDS["parent"])
+            parent.x, parent.y, parent.z = px, py, pz
+            for axis in (fig.layout.scene.xaxis, fig.layout.scene.yaxis, fig.layout.scene.zaxis):
+                axis.range = [-extent, extent]
 
     def _readout_html(self, conv, rot, origin, steps) -> str:
         unit = "deg" if conv.degrees else "rad"
@@ -310,7 +385,8 @@ class Explorer(w.VBox):
         maps = "child → parent" if conv.direction == "parent-from-child" else "parent → child"
         mat = panel_html(f"Homogeneous matrix as written ({maps})",
                          matrix_html(written) + words_html(f"flat, {conv.layout}: " +
-                                                           ", ".join(f"{v:.6g}" for v in flat.tolist())))
+                                                           ", ".join(format_number(v, 6, trim=True)
+                                                                     for v in flat.tolist())))
         q = write_rotation(rot, "quaternion", conv, check=False)
         labels = ("w", "x", "y", "z") if conv.scalar == "first" else ("x", "y", "z", "w")
         quat = panel_html(f"Quaternion ({conv.algebra.upper() if conv.algebra == 'jpl' else 'Hamilton'}, "
@@ -334,6 +410,6 @@ class Explorer(w.VBox):
             lock = "far from the pole"
         gauge_panel = panel_html("Gimbal-lock gauge", gauge_html(
             float(gauge.gauge), f"smallest singular value of the angle-rate Jacobian "
-            f"(pole {d:.4g} {unit} away)", note=lock))
+            f"(pole {format_number(d, 4, trim=True)} {unit} away)", note=lock))
         step_words = panel_html("Turn by turn", words_html("; ".join(steps.words)))
         return row_html(mat, quat, euler, gauge_panel, step_words)

@@ -1,11 +1,19 @@
-"""The frame-graph widget: pick two frames, see the transform between them every way, fix edges.
+"""The frame-graph widget: ask where one frame is, seen from another; check the loops; fix an edge.
 
 Glue only.  The state is a handful of traitlets - ``graph`` (an immutable
-:class:`~posekit.analysis.FrameGraph`), ``from_frame``, ``into_frame``, ``root``,
-``edge``, ``readout_convention``, ``palette`` - and everything shown is recomputed from
-them by posekit's analysis (lookups, readouts, loop checks) and view (figure, HTML).
-Every control is a native select, button or toggle, so the widget works from the
-keyboard (Tab to a control; arrow keys in a list; Space or Enter on a button).
+:class:`~posekit.analysis.FrameGraph`), ``from_frame`` (the frame asked about: "where is
+...?"), ``into_frame`` (the frame it is seen from), ``root`` (whose axes the 3D view
+uses), ``edge`` (the stored transform being edited), ``readout_convention``, ``palette``
+and ``click_sets`` - and everything shown is recomputed from them by posekit's analysis
+(lookups, readouts, loop checks) and view (the diagram of the graph, the 3D view, HTML).
+
+Two drawings side by side: the graph itself (:func:`posekit.view.graph.graph_diagram`,
+every stored transform an arrow parent -> child, the failing loop dashed, the best fix
+starred) and the frames in space (:func:`posekit.view.graph.graph_figure`).  A click on a
+node of the diagram picks a frame of the question (which one: ``click_sets``, then it
+moves on to the other); a click on an arrow picks that transform for editing.  Every
+control is also a native select, button or toggle, so the widget works from the keyboard
+(Tab to a control; arrow keys in a list; Space or Enter on a button).
 """
 
 from __future__ import annotations
@@ -18,18 +26,19 @@ import numpy as np
 import plotly.graph_objects as go
 import traitlets as t
 
-from ..analysis.frames_graph import FrameGraph, convention_words
+from ..analysis.frames_graph import FrameGraph, FrameGraphError, UnknownFrameError, convention_words
 from ..core.convention import Convention
-from ..core.errors import PoseInputError, WrongTypeError, isolate_controls
+from ..core.errors import PoseInputError, WrongTypeError, isolate_controls, summarise
 from ..core.reading import as_convention
-from ..view.graph import graph_figure, graph_traces, loop_check_html, readout_html
-from ..view.readouts import words_html
+from ..view.graph import (EDGE_LABELS_TRACE, FIX_TRACE, NODES_TRACE, auto_scale, edge_trace_name, graph_diagram,
+                          graph_figure, loop_check_html, point_words, readout_html)
+from ..view.readouts import STYLE_SHEET, words_html
 from ..io.settings import (Bool, Choice, ConventionText, Float, Text, Texts, WidgetSettings, fail, register_settings,
                            setting, shown)
 from ..io.state import Edge as StateEdge
 from ..io.state import NamedPose, State, environment_versions, float_literal
 from .controls import ConventionBar, KeyboardScope
-from .sharing import SharePanel, python_call
+from .sharing import SharePanel
 
 __all__ = ["GraphExplorer", "EDGE_FIELDS", "KeyboardScope", "GraphSettings"]
 
@@ -47,7 +56,7 @@ PLANAR_READOUT_FIELDS = ("direction", "unit", "action", "layout")
 def _edge_label(graph: FrameGraph, i: int) -> str:
     e = graph.edges[i]
     src = f" ({e.source})" if e.source else ""
-    return f"[{i}] {e.parent} \u2013 {e.child}{src}"
+    return f"{i}: {e.parent} \u2192 {e.child}{src}"
 
 
 _FRAME_NAME = Text(200, lines=False, empty=False, name=True, strip=True)
@@ -77,12 +86,15 @@ def _reason(exc: Exception) -> str:
 
 
 class GraphExplorer(w.VBox):
-    """Browse a frame graph: the transform between any two frames, and every edge's reading.
+    """Ask where one frame is, seen from another, in a graph of stored transforms; check loops; fix edges.
 
     >>> from posekit.analysis.scenarios import orchard_rover   # demo data
     >>> view = GraphExplorer(orchard_rover(), from_frame="camera", into_frame="world", root="base")
     >>> view.from_frame, view.into_frame
     ('camera', 'world')
+    >>> view.pick("lidar"); view.pick("base")   # as two clicks on the diagram's nodes
+    >>> view.from_frame, view.into_frame
+    ('lidar', 'base')
     """
 
     graph = t.Instance(FrameGraph)
@@ -91,11 +103,13 @@ class GraphExplorer(w.VBox):
     root = t.Unicode()
     edge = t.Int(0)
     readout_convention = t.Unicode("sequence=z-y-x unit=degrees")
-    palette = t.Unicode("standard")
+    palette = t.Unicode("colour-blind")
+    click_sets = t.Enum(("from", "into"), default_value="from")
 
     def __init__(self, graph: FrameGraph, from_frame: str | None = None, into_frame: str | None = None,
                  root: str | None = None, readout_convention="sequence=z-y-x unit=degrees",
-                 palette: str = "standard", height: int = 520, width: int = 860, scale: float | None = None):
+                 palette: str = "colour-blind", height: int = 480, width: int = 520, scale: float | None = None,
+                 diagram_width: int = 400):
         if not isinstance(graph, FrameGraph):
             raise WrongTypeError(f"GraphExplorer: got {type(graph).__name__}; expected a posekit FrameGraph")
         if len(graph.frames) < 2:
@@ -111,22 +125,31 @@ class GraphExplorer(w.VBox):
         self._original = graph
         self._height = height
         self._width = width
-        # the arrow length stays as first drawn, so flipping an edge does not rescale the scene
-        self._scale = graph_traces(graph, root=root, scale=scale)[1]["scale"]
+        self._diagram_width = diagram_width
+        self._fixed_scale = scale
+        self._scale: float | None = None
         self._syncing = False
+        self._bar_edge: int | None = None
 
         options = list(frames)
-        self.from_choice = w.Dropdown(options=options, value=from_frame, description="coordinates in",
-                                      style={"description_width": "initial"}, layout=w.Layout(width="230px"))
+        wide = {"description_width": "initial"}
+        self.from_choice = w.Dropdown(options=options, value=from_frame, description="where is", style=wide,
+                                      layout=w.Layout(width="200px"))
         self.from_choice.add_class("posekit-graph-from")
-        self.into_choice = w.Dropdown(options=options, value=into_frame, description="\u2192 into",
-                                      style={"description_width": "initial"}, layout=w.Layout(width="190px"))
+        self.into_choice = w.Dropdown(options=options, value=into_frame, description="seen from", style=wide,
+                                      layout=w.Layout(width="210px"))
         self.into_choice.add_class("posekit-graph-into")
-        self.swap_button = w.Button(description="swap", tooltip="look up the other way round",
-                                    layout=w.Layout(width="70px"))
+        self.swap_button = w.Button(description="turn it round", icon="exchange",
+                                    tooltip="ask where the second frame is, seen from the first",
+                                    layout=w.Layout(width="130px"))
         self.swap_button.add_class("posekit-graph-swap")
-        self.root_choice = w.Dropdown(options=options, value=root, description="draw in",
-                                      style={"description_width": "initial"}, layout=w.Layout(width="170px"))
+        self.click_choice = w.ToggleButtons(options=[("where is", "from"), ("seen from", "into")], value="from",
+                                            tooltips=["the next click on a frame in the drawing sets 'where is'",
+                                                      "the next click on a frame in the drawing sets 'seen from'"],
+                                            style=w.ToggleButtonsStyle(button_width="auto"))
+        self.click_choice.add_class("posekit-graph-click-sets")
+        self.root_choice = w.Dropdown(options=options, value=root, description="3D in the axes of", style=wide,
+                                      layout=w.Layout(width="250px"))
         self.root_choice.add_class("posekit-graph-root")
         self.palette_choice = w.ToggleButtons(options=[("standard colours", "standard"),
                                                        ("colour-blind safe", "colour-blind")], value=palette,
@@ -134,16 +157,16 @@ class GraphExplorer(w.VBox):
         self.palette_choice.add_class("posekit-graph-palette")
 
         self.edge_choice = w.Dropdown(options=[(_edge_label(graph, i), i) for i in range(len(graph.edges))], value=0,
-                                      description="edge", style={"description_width": "initial"},
-                                      layout=w.Layout(width="300px"))
+                                      description="transform", style=wide, layout=w.Layout(width="360px"))
         self.edge_choice.add_class("posekit-graph-edge")
-        self.flip_button = w.Button(description="flip its direction", icon="exchange",
-                                    tooltip="read the same numbers the other way round", layout=w.Layout(width="170px"))
+        self.flip_button = w.Button(description="read it the other way round", icon="exchange",
+                                    tooltip="the same numbers, taken as the inverse transform",
+                                    layout=w.Layout(width="220px"))
         self.flip_button.add_class("posekit-graph-flip")
         self.fix_button = w.Button(description="apply the best fix", tooltip="apply the first single-edge fix listed",
-                                   layout=w.Layout(width="160px"))
+                                   layout=w.Layout(width="150px"))
         self.fix_button.add_class("posekit-graph-apply-fix")
-        self.reset_button = w.Button(description="undo all edge changes", layout=w.Layout(width="180px"))
+        self.reset_button = w.Button(description="back to the numbers as entered", layout=w.Layout(width="230px"))
         self.reset_button.add_class("posekit-graph-reset")
         self.edge_words = w.HTML()
         self.edge_words.add_class("posekit-graph-edge-words")
@@ -155,29 +178,43 @@ class GraphExplorer(w.VBox):
         fields = PLANAR_READOUT_FIELDS if graph.planar else READOUT_FIELDS
         self.readout_bar = ConventionBar(fields=fields, initial={f: getattr(conv, f) for f in fields})
         self.readout_bar.add_class("posekit-graph-readout-convention")
-        self.readouts = w.HTML(layout=w.Layout(width="100%"))
+        self.readouts = w.HTML()
         self.readouts.add_class("posekit-graph-readouts")
-        self.loops_html = w.HTML(layout=w.Layout(width="100%"))
+        self.loops_html = w.HTML()
         self.loops_html.add_class("posekit-graph-loops-box")
 
+        check = graph.check_loops()
+        self.diagram = go.FigureWidget(graph_diagram(graph, lookup=look, check=check, selected_edge=0,
+                                                     width=diagram_width, height=height))
+        self.diagram.add_class("posekit-graph-diagram")
         self.figure = go.FigureWidget(graph_figure(graph, root=root, lookup=look, palette=palette, height=height,
-                                                   width=width, scale=self._scale))
+                                                   width=width, scale=self._scale_for(graph, root)))
         self.figure.add_class("posekit-graph-figure")
 
-        pick = w.VBox([w.HTML("<b>Look up</b> the transform between two frames"),
-                       w.HBox([self.from_choice, self.into_choice, self.swap_button]),
-                       w.HBox([self.root_choice, self.palette_choice])],
-                      layout=w.Layout(flex="1 1 430px", min_width="430px"))
-        edit = w.VBox([w.HTML("<b>Edges</b> as entered \u2014 change how one is read and watch the scene"),
-                       w.HBox([self.edge_choice, self.flip_button]), self.edge_words, self.edge_box,
-                       w.HBox([self.fix_button, self.reset_button]), self.status],
+        ask = w.VBox([w.HTML("<b>Ask</b> where one frame is, seen from another \u2014 pick both here, or click "
+                             "two frames in the drawing"),
+                      w.HBox([self.from_choice, self.into_choice]),
+                      w.HBox([self.swap_button, w.Label("a click on a frame sets"), self.click_choice],
+                             layout=w.Layout(align_items="center", grid_gap="0 6px")),
+                      self.root_choice, self.palette_choice],
+                     layout=w.Layout(flex="1 1 430px", min_width="430px"))
+        edit = w.VBox([w.HTML("<b>Stored transforms</b> \u2014 change how one is read (or click its arrow) and "
+                              "watch both drawings"),
+                       self.edge_choice, self.edge_words, self.edge_box,
+                       w.HBox([self.flip_button, self.fix_button, self.reset_button],
+                              layout=w.Layout(flex_flow="row wrap")), self.status],
                       layout=w.Layout(flex="1 1 440px", min_width="420px"))
-        controls = w.HBox([pick, edit], layout=w.Layout(flex_flow="row wrap", grid_gap="4px 16px", width="100%"))
-        below = w.VBox([self.loops_html, w.HTML("<b>Write the looked-up transform</b> under this convention"),
+        controls = w.HBox([ask, edit], layout=w.Layout(flex_flow="row wrap", grid_gap="4px 16px", width="100%"))
+        diagram_box, scene_box = w.Box([self.diagram]), w.Box([self.figure])
+        diagram_box.add_class("posekit-graph-diagram-box")
+        scene_box.add_class("posekit-graph-scene-box")
+        drawings = w.HBox([diagram_box, scene_box],
+                          layout=w.Layout(flex_flow="row wrap", grid_gap="4px 8px", width="100%"))
+        below = w.VBox([self.loops_html, w.HTML("<b>The answer in numbers</b>, written under this convention"),
                         self.readout_bar, self.readouts])
         self.keyboard_scope = KeyboardScope(scope=".posekit-graph-explorer")
-        super().__init__([controls, w.Box([self.figure], layout=w.Layout(width="100%")), below,
-                          SharePanel(self, "frame-graph-state"), self.keyboard_scope])
+        super().__init__([w.HTML(STYLE_SHEET), controls, drawings, below, SharePanel(self, "frame-graph-state"),
+                          self.keyboard_scope])
         self.add_class("posekit-graph-explorer")
 
         with self.hold_trait_notifications():
@@ -193,6 +230,7 @@ class GraphExplorer(w.VBox):
         self.into_choice.observe(lambda ch: self._set("into_frame", ch["new"]), "value")
         self.root_choice.observe(lambda ch: self._set("root", ch["new"]), "value")
         self.palette_choice.observe(lambda ch: self._set("palette", ch["new"]), "value")
+        self.click_choice.observe(lambda ch: self._set("click_sets", ch["new"]), "value")
         self.edge_choice.observe(lambda ch: self._set("edge", ch["new"]), "value")
         self.swap_button.on_click(lambda _: self.swap())
         self.flip_button.on_click(lambda _: self.flip())
@@ -203,7 +241,8 @@ class GraphExplorer(w.VBox):
         self.observe(self._on_view, ["from_frame", "into_frame", "root", "palette", "readout_convention"])
         self.observe(self._on_graph, ["graph"])
         self.observe(self._on_edge, ["edge"])
-        self._build_edge_bar()
+        self.observe(lambda _: self._sync_controls(), ["click_sets"])
+        self._sync_edge_bar()
         self._refresh()
 
     # --- actions (also callable from code) ------------------------------------------------
@@ -232,7 +271,7 @@ class GraphExplorer(w.VBox):
             full = np.eye(4)
             full[:2, :2], full[:2, 3] = look[:2, :2], look[:2, 2]
             look = full
-        pose = NamedPose(f"{self.into_frame} from {self.from_frame}", look, as_convention(self.readout_convention))
+        pose = NamedPose(f"{self.from_frame} seen from {self.into_frame}", look, as_convention(self.readout_convention))
         return State("graph", self._settings(), (pose,), edges, notes)
 
     @classmethod
@@ -285,8 +324,24 @@ class GraphExplorer(w.VBox):
         return "\n".join(lines) + "\n"
 
     def swap(self) -> None:
+        """Ask the other way round: where is the second frame, seen from the first."""
         with self.hold_trait_notifications():
             self.from_frame, self.into_frame = self.into_frame, self.from_frame
+
+    def pick(self, frame: str) -> None:
+        """What a click on a frame in the diagram does: set the frame ``click_sets`` names, then move on.
+
+        With ``click_sets == "from"`` the frame becomes the one asked about ("where is ...")
+        and the next pick sets the frame it is seen from; and the other way round.
+        """
+        if not isinstance(frame, str) or frame not in self.graph.frames:
+            raise UnknownFrameError(f"pick: got {summarise(frame, 40)}, not a frame of the graph; expected one of: "
+                                    + ", ".join(repr(f) for f in self.graph.frames[:20]))
+        with self.hold_trait_notifications():
+            if self.click_sets == "from":
+                self.from_frame, self.click_sets = frame, "into"
+            else:
+                self.into_frame, self.click_sets = frame, "from"
 
     def flip(self, index: int | None = None) -> None:
         """Read edge ``index`` (default: the selected one) the other way round."""
@@ -301,8 +356,11 @@ class GraphExplorer(w.VBox):
                                               "no single edge closes every loop."))
             return
         best = check.fixes[0]
-        self.graph = self.graph.replaced(best.edge, best.corrected)
-        self.edge = best.edge
+        # one notification round: the edge list, its selection and the edge's own controls are synced
+        # together (each observer syncs every control from the traitlets, options before values)
+        with self.hold_trait_notifications():
+            self.graph = self.graph.replaced(best.edge, best.corrected)
+            self.edge = best.edge
         self.status.value = words_html(f"Applied to edge {best.edge}: {best.words} As code: {best.code}")
 
     def reset(self) -> None:
@@ -312,6 +370,10 @@ class GraphExplorer(w.VBox):
     def lookup(self):
         """The :class:`~posekit.analysis.frames_graph.Lookup` the controls describe."""
         return self.graph.lookup(self.into_frame, self.from_frame)
+
+    def changed_edges(self) -> tuple[int, ...]:
+        """The edges that differ from how they were first entered."""
+        return tuple(i for i, (a, b) in enumerate(zip(self.graph.edges, self._original.edges)) if a != b)
 
     # --- observers --------------------------------------------------------------------------
     def _set(self, name: str, value) -> None:
@@ -339,40 +401,49 @@ class GraphExplorer(w.VBox):
             self._sync_edge_bar()
 
     def _on_view(self, change) -> None:
-        self._refresh()
+        self._refresh(diagram=change["name"] in ("from_frame", "into_frame"))
 
     def _on_graph(self, change) -> None:
         self._sync_edge_bar()
         self._refresh()
 
     def _on_edge(self, change) -> None:
-        self._build_edge_bar()
-        self._refresh_edge_words()
+        self._sync_edge_bar()
+        self._refresh(scene=False)
+
+    def _on_node_click(self, trace, points, state) -> None:
+        # plotly calls every trace's handler on each click; only the clicked trace has points
+        if points.point_inds:
+            self.pick(str(trace.customdata[points.point_inds[0]]))
+
+    def _on_edge_click(self, trace, points, state) -> None:
+        if points.point_inds:
+            self.edge = int(trace.customdata[points.point_inds[0]])
 
     # --- syncing controls --------------------------------------------------------------------
     def _build_edge_bar(self) -> None:
         e = self.graph.edges[self.edge]
         fields = list(EDGE_FIELDS[e.kind])
-        if e.kind == "matrix" and len(e.numbers) and not isinstance(e.numbers[0], tuple):
-            pass  # flat numbers: layout matters
-        elif e.kind == "matrix":
-            fields.remove("layout")
+        if e.kind == "matrix" and len(e.numbers) and isinstance(e.numbers[0], tuple):
+            fields.remove("layout")  # nested rows: the flat order plays no part
         self.edge_bar = ConventionBar(fields=tuple(fields), initial={f: getattr(e.convention, f) for f in fields})
         self.edge_bar.add_class("posekit-graph-edge-convention")
         for ctl in self.edge_bar.controls.values():
             ctl.observe(self._on_edge_setting, "value")
         self.edge_box.children = (self.edge_bar,)
+        self._bar_edge = self.edge
 
     def _sync_edge_bar(self) -> None:
+        """The edge's own controls: rebuilt for another edge, else set from its convention; then the rest."""
+        if self._bar_edge != self.edge or self.edge_bar is None:
+            self._build_edge_bar()
         self._syncing = True
         try:
             e = self.graph.edges[self.edge]
-            if self.edge_bar is not None:
-                self.edge_bar.set_settings({f: getattr(e.convention, f) for f in self.edge_bar.controls})
-            self.edge_choice.options = [(_edge_label(self.graph, i), i) for i in range(len(self.graph.edges))]
-            self.edge_choice.value = self.edge
+            self.edge_bar.set_settings({f: getattr(e.convention, f) for f in self.edge_bar.controls})
         finally:
             self._syncing = False
+        self._sync_controls()
         self._refresh_edge_words()
 
     def _refresh_edge_words(self) -> None:
@@ -381,15 +452,22 @@ class GraphExplorer(w.VBox):
         note = " (changed from how it was first entered)" if changed else ""
         flat = [v for row in e.numbers for v in (row if isinstance(row, tuple) else (row,))]
         numbers = ", ".join(f"{v:.6g}" for v in flat)
+        given, expressed = (e.child, e.parent) if e.convention.direction == "parent-from-child" else (e.parent, e.child)
         self.edge_words.value = words_html(f"{len(flat)} {e.kind} numbers ({numbers}) under "
-                                           f"{convention_words(e.convention)}, read as {e.entered_words}{note}.")
+                                           f"{convention_words(e.convention)}: they take "
+                                           f"{point_words(given, expressed)}{note}.")
 
     def _sync_controls(self) -> None:
+        """Every control from the traitlets.  A list's options are set before its value: setting
+        options resets a dropdown's value to the first option."""
         self._syncing = True
         try:
+            labels = tuple((_edge_label(self.graph, i), i) for i in range(len(self.graph.edges)))
+            if tuple(tuple(o) for o in self.edge_choice.options) != labels:
+                self.edge_choice.options = labels
             for ctl, value in ((self.from_choice, self.from_frame), (self.into_choice, self.into_frame),
                                (self.root_choice, self.root), (self.palette_choice, self.palette),
-                               (self.edge_choice, self.edge)):
+                               (self.edge_choice, self.edge), (self.click_choice, self.click_sets)):
                 if ctl.value != value:
                     ctl.value = value
             conv = Convention.parse(self.readout_convention)
@@ -398,26 +476,70 @@ class GraphExplorer(w.VBox):
             self._syncing = False
 
     # --- drawing ------------------------------------------------------------------------------
-    def _refresh(self) -> None:
+    def _scale_for(self, graph: FrameGraph, root: str) -> float:
+        """The arrow length: as given, else from the data; kept while the data's own length stays
+        within a factor of 3 of it, so reading one edge another way does not rescale the scene,
+        while a fix that turns millimetres into metres does."""
+        if self._fixed_scale is not None:
+            return self._fixed_scale
+        place = graph.placement(root)
+        n = place.matrices.shape[-1]
+        fresh = auto_scale(np.asarray(place.matrices)[:, : n - 1, n - 1])
+        if self._scale is None or not 1 / 3 <= fresh / self._scale <= 3:
+            self._scale = fresh
+        return self._scale
+
+    def _connect_diagram(self) -> None:
+        """Click handlers on the diagram's traces, found by name (traces are replaced on each redraw)."""
+        for tr in self.diagram.select_traces(selector=dict(name=NODES_TRACE)):
+            tr.on_click(self._on_node_click)
+        edges = {edge_trace_name(i) for i in range(len(self.graph.edges))} | {EDGE_LABELS_TRACE, FIX_TRACE}
+        for tr in self.diagram.select_traces(selector=lambda tr: tr.name in edges):
+            tr.on_click(self._on_edge_click)
+
+    def _refresh(self, scene: bool = True, diagram: bool = True) -> None:
         self._sync_controls()
-        look = self.lookup()
-        fresh = graph_figure(self.graph, root=self.root, lookup=look, palette=self.palette, height=self._height,
-                             width=self._width, scale=self._scale)
-        fig = self.figure
-        # whole traces are replaced (the figure is small), so names, letters and colours can
-        # never go stale; the layout's uirevision keeps the user's camera and zoom
-        fig.data = ()
-        fig.add_traces(list(fresh.data))
-        with fig.batch_update():
-            fig.layout.title.text = fresh.layout.title.text
-            if self.graph.planar:
+        try:
+            look = self.lookup()
+            problem = ""
+        except FrameGraphError as exc:  # e.g. two frames no chain of edges joins
+            look, problem = None, str(exc)
+        check = self.graph.check_loops()
+        if diagram:
+            fresh = graph_diagram(self.graph, lookup=look, check=check, selected_edge=self.edge,
+                                  changed=self.changed_edges(), width=self._diagram_width, height=self._height)
+            fig = self.diagram
+            # whole traces are replaced (the figure is small), so names, labels and colours can
+            # never go stale; the click handlers go onto the new traces by name
+            fig.data = ()
+            fig.add_traces(list(fresh.data))
+            with fig.batch_update():
+                fig.layout.annotations = fresh.layout.annotations
+                fig.layout.margin = fresh.layout.margin
                 fig.layout.xaxis.range = fresh.layout.xaxis.range
                 fig.layout.yaxis.range = fresh.layout.yaxis.range
+            self._connect_diagram()
+        if scene:
+            fresh = graph_figure(self.graph, root=self.root, lookup=look, palette=self.palette, height=self._height,
+                                 width=self._width, scale=self._scale_for(self.graph, self.root))
+            fig = self.figure
+            fig.data = ()
+            fig.add_traces(list(fresh.data))
+            with fig.batch_update():
+                fig.layout.title.text = fresh.layout.title.text
+                if self.graph.planar:
+                    fig.layout.xaxis.range = fresh.layout.xaxis.range
+                    fig.layout.yaxis.range = fresh.layout.yaxis.range
+                    fig.layout.xaxis.title.text = fresh.layout.xaxis.title.text
+                    fig.layout.yaxis.title.text = fresh.layout.yaxis.title.text
+                else:
+                    for ax in ("xaxis", "yaxis", "zaxis"):
+                        fig.layout.scene[ax].range = fresh.layout.scene[ax].range
+                        fig.layout.scene[ax].title.text = fresh.layout.scene[ax].title.text
+            conv = Convention.parse(self.readout_convention)
+            if look is not None:
+                self.readouts.value = readout_html(look.readout(conv), look)
             else:
-                for ax in ("xaxis", "yaxis", "zaxis"):
-                    fig.layout.scene[ax].range = fresh.layout.scene[ax].range
-                    fig.layout.scene[ax].title.text = fresh.layout.scene[ax].title.text
-        conv = Convention.parse(self.readout_convention)
-        self.readouts.value = readout_html(look.readout(conv), look)
-        self.loops_html.value = loop_check_html(self.graph.check_loops(), self.graph)
+                self.readouts.value = words_html(f"No answer: {problem}")
+            self.loops_html.value = loop_check_html(check, self.graph)
         self._refresh_edge_words()

@@ -12,21 +12,22 @@ from typing import ClassVar
 
 import ipywidgets as w
 import numpy as np
-import plotly.graph_objects as go
 import traitlets as t
 
 from ..core.errors import PoseInputError
 from ..core.transforms import checked_transform, invert_transform, make_planar, planar_parts
-from ..view.frames import planar_figure
+from ..view.frames import DEFAULT_PALETTE, FRAME_UIDS, planar_figure
 from ..view.readouts import STYLE_SHEET, matrix_html, panel_html, words_html
 from ..io.settings import Choice, Float, WidgetSettings, register_settings, setting
 from ..io.state import NamedPose, State, environment_versions
-from .controls import KeyboardScope, NumberRow
+from .controls import FigureSlot, KeyboardScope, NumberRow
 from .sharing import SharePanel, python_call
 
 __all__ = ["PlanarExplorer", "PlanarSettings"]
 
-_FRAME = 1
+_FRAME = FRAME_UIDS["frame"]
+EXTENT = 4.2  # fixed plane range (the sliders reach +-3 m)
+UNIT = "m"
 
 
 @register_settings
@@ -61,8 +62,10 @@ class PlanarExplorer(w.VBox):
         self._syncing = False
         lim = 180.0 if unit == "degrees" else math.pi
         self.rows = {
-            "x": NumberRow("x <span style='color:#888'>parent</span>", float(x), -3.0, 3.0, 0.05, "planar-x"),
-            "y": NumberRow("y <span style='color:#888'>parent</span>", float(y), -3.0, 3.0, 0.05, "planar-y"),
+            "x": NumberRow(f"x <span style='color:#888'>parent, {UNIT}</span>", float(x), -3.0, 3.0, 0.05,
+                           "planar-x"),
+            "y": NumberRow(f"y <span style='color:#888'>parent, {UNIT}</span>", float(y), -3.0, 3.0, 0.05,
+                           "planar-y"),
             "heading": NumberRow(f"heading <span style='color:#888'>{'deg' if unit == 'degrees' else 'rad'}</span>",
                                  float(heading), -lim, lim, 1.0 if unit == "degrees" else 0.01, "planar-heading"),
         }
@@ -73,24 +76,30 @@ class PlanarExplorer(w.VBox):
                                                 value=direction, style=w.ToggleButtonsStyle(button_width="auto"))
         self.readouts = w.HTML()
         self.readouts.add_class("posekit-planar-readouts")
-        self.figure = go.FigureWidget(planar_figure(make_planar(x, y, heading, degrees=unit == "degrees"),
-                                                    extent=4.2, height=430))
-        self.figure.add_class("posekit-planar-figure")
+        self.plot = FigureSlot(planar_figure(make_planar(x, y, heading, degrees=unit == "degrees"),
+                                             palette=DEFAULT_PALETTE, extent=EXTENT, height=430, unit=UNIT)
+                               .update_layout(width=450),
+                               classes=("posekit-planar-figure",))
         left = w.VBox([w.HTML("<b>Frame in the plane</b>")] + list(self.rows.values()) +
                       [w.HTML("<b>Heading unit</b>"), self.unit_choice, w.HTML("<b>Matrix direction</b>"),
                        self.direction_choice, self.readouts], layout=w.Layout(width="470px", min_width="470px"))
-        super().__init__([w.HTML(STYLE_SHEET), KeyboardScope(scope=".posekit-planar"), w.HBox([left, w.Box([self.figure], layout=w.Layout(flex="1 1 auto"))]),
+        super().__init__([w.HTML(STYLE_SHEET), KeyboardScope(scope=".posekit-planar"), w.HBox([left, self.plot], layout=w.Layout(width="100%", flex_flow="row wrap")),
                           SharePanel(self, "planar-state")])
         self.add_class("posekit-planar")
         with self.hold_trait_notifications():
             self.x, self.y, self.heading, self.unit, self.direction = float(x), float(y), float(heading), unit, direction
         for name, row in self.rows.items():
             row.observe_slider(lambda ch, n=name: self._set(n, ch["new"], True))
-            row.box.observe(lambda ch, n=name: self._set(n, ch["new"], False), "value")
+            row.observe_box(lambda v, n=name: self._set(n, v, False))
         self.unit_choice.observe(self._on_unit, "value")
         self.direction_choice.observe(lambda ch: setattr(self, "direction", ch["new"]), "value")
         self.observe(lambda ch: self._refresh(), ["x", "y", "heading", "direction"])
         self._refresh()
+
+    @property
+    def figure(self):
+        """The live plotly figure widget (a retry in its :class:`FigureSlot` replaces it)."""
+        return self.plot.figure
 
     @classmethod
     def from_transform(cls, transform, **options) -> "PlanarExplorer":
@@ -156,9 +165,8 @@ class PlanarExplorer(w.VBox):
         finally:
             self._syncing = False
         m = self.transform()
-        fig = planar_figure(m, extent=4.2)
-        with self.figure.batch_update():
-            self.figure.data[_FRAME].update(x=fig.data[_FRAME].x, y=fig.data[_FRAME].y)
+        drawn = planar_figure(m, extent=EXTENT, reference=False).data[0]  # the frame's arrows, as the figure draws them
+        self.figure.restyle({_FRAME: {"x": list(drawn.x), "y": list(drawn.y)}})
         shown = m if self.direction == "parent-from-child" else invert_transform(m)
         maps = "child \u2192 parent" if self.direction == "parent-from-child" else "parent \u2192 child"
         self.readouts.value = panel_html(f"Homogeneous matrix ({maps})", matrix_html(shown) + words_html(

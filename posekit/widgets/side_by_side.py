@@ -30,13 +30,14 @@ from ..core.checks import as_numbers, checked_matrix
 from ..core.convention import Convention
 from ..core.errors import PoseInputError
 from ..core.reading import as_convention, read_rotation, write_rotation
-from ..view.readouts import gauge_html, matrix_html, numbers_html, panel_html, words_html
+from ..view.readouts import STYLE_SHEET, error_html, format_number, gauge_html, matrix_html, numbers_html, panel_html, \
+    words_html
 from ..view.sweep import (SWEEP_TRACES, angle_name, apply_patch, family_data, family_figure, step_marks, sweep_figure,
                           sweep_patch)
 from ..io.settings import ConventionText, Floats, IntRange, WidgetSettings, fail, register_settings, setting
 from ..io.state import NamedPose, State, environment_versions
 from ..core.transforms import make_transform
-from .controls import ConventionBar, KeyboardScope, NumberRow, OneMessageFigure
+from .controls import ConventionBar, FigureSlot, KeyboardScope, NumberBox, NumberRow
 from .sharing import SharePanel, python_call
 
 __all__ = ["SingularityView", "StepReadout", "SweepSetupError", "BAR_FIELDS", "MAX_STEPS", "SingularitySettings"]
@@ -45,6 +46,8 @@ __all__ = ["SingularityView", "StepReadout", "SweepSetupError", "BAR_FIELDS", "M
 BAR_FIELDS = ("sequence", "axes", "unit", "wrap", "scalar", "algebra")
 #: Most steps a sweep may have (keeps every update small).
 MAX_STEPS = 2001
+#: Width of the sweep figure, pixels.
+SWEEP_WIDTH = 760
 #: Default half-width of the sweep range around the pole, in degrees.
 DEFAULT_HALF_WIDTH_DEGREES = 30.0
 
@@ -196,8 +199,8 @@ class SingularityView(w.VBox):
         self.swept_choice = w.Dropdown(options=self._swept_options(conv), value=swept,
                                        layout=w.Layout(width="250px"))
         self.swept_choice.add_class("posekit-swept")
-        self.range_from = w.FloatText(value=rng[0], step=None, layout=w.Layout(width="150px"))
-        self.range_to = w.FloatText(value=rng[1], step=None, layout=w.Layout(width="150px"))
+        self.range_from = NumberBox(rng[0], layout=w.Layout(width="150px"))
+        self.range_to = NumberBox(rng[1], layout=w.Layout(width="150px"))
         self.range_from.add_class("posekit-range-from")
         self.range_to.add_class("posekit-range-to")
         self.steps_box = w.BoundedIntText(value=steps, min=2, max=MAX_STEPS, layout=w.Layout(width="76px"))
@@ -224,16 +227,16 @@ class SingularityView(w.VBox):
         solutions = euler_solutions(sweep.rotation, conv)
         self._sweep, self._solutions = sweep, solutions
         self._drawn_labels = (conv, swept)
-        self.figure = OneMessageFigure(sweep_figure(sweep, pos, parameter_label=angle_name(conv, swept, unit=True),
-                                                   height=760))
-        self.figure.add_class("posekit-sweep-figure")
-        self.family = OneMessageFigure(family_figure(solutions, pos, height=430, width=430))
-        self.family.add_class("posekit-family-figure")
+        sweep_fig = sweep_figure(sweep, pos, parameter_label=angle_name(conv, swept, unit=True), height=760)
+        sweep_fig.update_layout(width=SWEEP_WIDTH)  # fixed: drawn whole beside the controls, or below them
+        self.sweep_plot = FigureSlot(sweep_fig, classes=("posekit-sweep-figure",))
+        self.family_plot = FigureSlot(family_figure(solutions, pos, height=430, width=430),
+                                      classes=("posekit-family-figure",), layout=w.Layout(width="432px"))
 
         # plain boxes around the figures: stable page selectors for the plots inside
-        self._sweep_box = w.Box([self.figure], layout=w.Layout(flex="1 1 auto", min_width="0"))
+        self._sweep_box = w.Box([self.sweep_plot], layout=w.Layout(flex="0 0 auto"))
         self._sweep_box.add_class("posekit-sweep-plot")
-        self._family_box = w.Box([self.family])
+        self._family_box = w.Box([self.family_plot])
         self._family_box.add_class("posekit-family-plot")
         range_row = w.HBox([w.Label("range from", layout=w.Layout(width="80px")), self.range_from, w.Label("to"),
                             self.range_to], layout=w.Layout(align_items="center"))
@@ -253,7 +256,8 @@ class SingularityView(w.VBox):
         ], layout=w.Layout(width="450px", min_width="450px", padding="0 10px 0 0"))
         self.bar.layout.grid_template_columns = "repeat(auto-fill, minmax(520px, 1fr))"  # two columns, no wrapping
         top = w.VBox([w.HTML("<b>Convention</b> (the fields that change what the sweep shows)"), self.bar])
-        super().__init__([top, KeyboardScope(scope=".posekit-singularity"), w.HBox([left, self._sweep_box]),
+        super().__init__([w.HTML(STYLE_SHEET), top, KeyboardScope(scope=".posekit-singularity"),
+                          w.HBox([left, self._sweep_box], layout=w.Layout(width="100%", flex_flow="row wrap")),
                           self.readouts, self.summary_words, SharePanel(self, "singularity-state")])
         self.add_class("posekit-singularity")
 
@@ -269,8 +273,8 @@ class SingularityView(w.VBox):
         for ctl in self.bar.controls.values():
             ctl.observe(self._on_setting, "value")
         self.swept_choice.observe(self._on_swept_choice, "value")
-        self.range_from.observe(lambda ch: self._on_range_box(), "value")
-        self.range_to.observe(lambda ch: self._on_range_box(), "value")
+        self.range_from.observe(lambda ch: self._on_range_box(), "number")
+        self.range_to.observe(lambda ch: self._on_range_box(), "number")
         self.steps_box.observe(self._on_steps_box, "value")
         self.centre_button.on_click(lambda b: self.centre_on_pole())
         self._wire_rows()
@@ -279,6 +283,16 @@ class SingularityView(w.VBox):
         self.observe(self._on_position, ["position"])
         self._sync_controls()
         self._draw_step()
+
+    @property
+    def figure(self):
+        """The live sweep figure widget (a retry in its :class:`FigureSlot` replaces it)."""
+        return self.sweep_plot.figure
+
+    @property
+    def family(self):
+        """The live first-vs-third-angle figure widget."""
+        return self.family_plot.figure
 
     # --- sharing ----------------------------------------------------------------------------
     def _settings(self) -> dict:
@@ -349,7 +363,7 @@ class SingularityView(w.VBox):
     def centre_on_pole(self) -> None:
         """Keep the range's width, centred on the pole nearest its centre (middle angle swept only)."""
         if self.swept != 1:
-            self.status.value = words_html("Only a sweep of the middle angle crosses the pole; set the middle "
+            self.status.value = error_html("Only a sweep of the middle angle crosses the pole; set the middle "
                                            "held angle to the pole to lock an outer-angle sweep.")
             return
         conv = self.convention_value()
@@ -409,9 +423,9 @@ class SingularityView(w.VBox):
         if self._syncing:
             return
         try:
-            rng = _check_range((self.range_from.value, self.range_to.value), self.convention_value())
+            rng = _check_range((self.range_from.number, self.range_to.number), self.convention_value())
         except SweepSetupError as exc:
-            self.status.value = words_html(f"Not applied: {exc}")
+            self.status.value = error_html(f"Not applied: {exc}")
             return
         self.sweep_range = rng
 
@@ -431,7 +445,7 @@ class SingularityView(w.VBox):
     def _wire_rows(self) -> None:
         for i, row in enumerate(self.angle_rows):
             row.slider.observe(lambda ch, i=i, row=row: self._set_held(i, ch["new"], True, row), "value")
-            row.box.observe(lambda ch, i=i, row=row: self._set_held(i, ch["new"], False, row), "value")
+            row.observe_box(lambda v, i=i, row=row: self._set_held(i, v, False, row))
 
     def _set_held(self, i: int, value: float, from_slider: bool, row=None) -> None:
         if self._syncing or (row is not None and row is not self.angle_rows[i]):
@@ -538,10 +552,10 @@ class SingularityView(w.VBox):
                 row.label.value = self._row_label(conv, i)
                 row.layout.display = "none" if i == self.swept else None
                 row.show(self.angles[i])
-            if self.range_from.value != self.sweep_range[0]:
-                self.range_from.value = self.sweep_range[0]
-            if self.range_to.value != self.sweep_range[1]:
-                self.range_to.value = self.sweep_range[1]
+            if self.range_from.number != self.sweep_range[0]:
+                self.range_from.number = self.sweep_range[0]
+            if self.range_to.number != self.sweep_range[1]:
+                self.range_to.number = self.sweep_range[1]
             if self.steps_box.value != self.steps:
                 self.steps_box.value = self.steps
             self.centre_button.disabled = self.swept != 1
@@ -566,7 +580,8 @@ class SingularityView(w.VBox):
         unit = "deg" if conv.degrees else "rad"
         self.position_words.value = words_html(
             f"step {r.step} (of 0\u2013{self._sweep.steps - 1}): {angle_name(conv, self.swept)} = "
-            f"{r.parameter:.6g} {unit}" + ("; the Euler readback jumped at this step" if r.euler_jump else ""))
+            f"{format_number(r.parameter, 6, trim=True)} {unit}"
+            + ("; the Euler readback jumped at this step" if r.euler_jump else ""))
         self.family_words.value = words_html(fam["note"])
         self.readouts.value = self._readout_html(conv, r)
         self.summary_words.value = words_html("Along the sweep: " + self._sweep.summary() + ".")

@@ -16,7 +16,6 @@ from typing import ClassVar
 
 import ipywidgets as w
 import numpy as np
-import plotly.graph_objects as go
 import traitlets as t
 
 from ..io.settings import MAX_TEXT, IntRange, Text, WidgetSettings, fail, register_settings, setting
@@ -24,16 +23,17 @@ from ..io.state import NamedPose, State, environment_versions
 from ..analysis.trajectory import TrajectoryReport
 from ..core.errors import PoseInputError
 from ..core.transforms import make_transform
-from ..view.frames import body_points, frame_figure, frame_points
-from ..view.readouts import STYLE_SHEET
-from ..view.trajectory import FLAG_STYLES, flagged_spans, row_rotation, trajectory_figure
-from .controls import KeyboardScope
+from ..view.frames import DEFAULT_PALETTE, FRAME_UIDS, body_points, frame_figure, frame_points, overlay_uid
+from ..view.readouts import STYLE_SHEET, format_number
+from ..view.trajectory import (FLAG_STYLES, HIGHLIGHT, flag_uid, flagged_spans, row_rotation, span_shape,
+                               trajectory_figure)
+from .controls import FigureSlot, KeyboardScope
 from .sharing import SharePanel
 
 __all__ = ["TrajectoryView", "TrajectorySettings"]
 
-_FRAME, _PREVIOUS = 1, 2
-_FIRST_FLAG_TRACE = 9  # 3 Euler, 4 quaternion, the rate and the rate limit
+_FRAME, _BODY, _PREVIOUS = FRAME_UIDS["frame"], FRAME_UIDS["body"], overlay_uid(0)
+_FLAG_UIDS = tuple(flag_uid(k) for k in FLAG_STYLES)
 
 
 @register_settings
@@ -64,11 +64,10 @@ class TrajectoryView(w.VBox):
                                  f"{type(report).__name__}")
         self.report = report
         self.spans, self.total_spans = flagged_spans(report)
-        self.series = go.FigureWidget(trajectory_figure(report, spans=self.spans, rate_limit=rate_limit,
-                                                        height=height, width=width))
-        self.series.add_class("posekit-trajectory-series")
-        for trace in self.series.data[_FIRST_FLAG_TRACE:]:
-            trace.on_click(self._on_click)
+        self.series_plot = FigureSlot(trajectory_figure(report, spans=self.spans, rate_limit=rate_limit,
+                                                        height=height, width=width),
+                                      classes=("posekit-trajectory-series",))
+        self.series_plot.on_figure(self._attach_clicks)  # again for a fresh figure after a retry
         options = [("(no span chosen)", -1)] + [(s.words(), k) for k, s in enumerate(self.spans)]
         self.span_list = w.Select(options=options, value=-1, rows=min(12, len(options)),
                                   layout=w.Layout(width="100%", height="auto"))
@@ -76,16 +75,15 @@ class TrajectoryView(w.VBox):
         self.detail = w.HTML()
         self.detail.add_class("posekit-trajectory-detail")
         fig = frame_figure(np.eye(3), np.zeros(3), body=True, overlays=[("prev", np.eye(3), np.zeros(3))],
-                           height=400)
-        fig.update_layout(width=440, margin=dict(l=0, r=0, t=5, b=0))
-        fig.data[_FRAME].name = "pose at the span"
-        fig.data[_PREVIOUS + 1].name = "one used row before"
-        fig.data[_PREVIOUS + 1].textposition = "bottom center"  # apart from the letters of the pose itself
-        self.pose_figure = go.FigureWidget(fig)
-        self.pose_figure.add_class("posekit-trajectory-pose")
-        pose_box = w.Box([self.pose_figure], layout=w.Layout(width="450px"))
+                           palette=DEFAULT_PALETTE, height=420, unit=None)  # rotation only: no lengths
+        fig.update_layout(width=440)
+        fig.for_each_trace(lambda tr: tr.update(name="pose at the span"), selector=dict(uid=_FRAME))
+        fig.for_each_trace(lambda tr: tr.update(name="one used row before", textposition="bottom center"),
+                           selector=dict(uid=_PREVIOUS))  # letters apart from those of the pose itself
+        self.pose_plot = FigureSlot(fig, classes=("posekit-trajectory-pose",))
+        pose_box = w.Box([self.pose_plot], layout=w.Layout(width="450px"))
         pose_box.add_class("posekit-trajectory-pose-box")
-        series_box = w.Box([self.series], layout=w.Layout(width="100%", overflow="auto"))
+        series_box = w.Box([self.series_plot], layout=w.Layout(width="100%", overflow="auto"))
         series_box.add_class("posekit-trajectory-series-box")
         more = (f" (showing the first {len(self.spans)} of {self.total_spans})"
                 if self.total_spans > len(self.spans) else "")
@@ -109,6 +107,20 @@ class TrajectoryView(w.VBox):
         else:
             self._show(-1)
 
+    @property
+    def series(self):
+        """The live time-series figure widget (a retry in its :class:`FigureSlot` replaces it)."""
+        return self.series_plot.figure
+
+    @property
+    def pose_figure(self):
+        """The live 3D pose figure widget."""
+        return self.pose_plot.figure
+
+    def _attach_clicks(self, fig) -> None:
+        fig.for_each_trace(lambda tr: tr.on_click(self._on_click),
+                           selector=lambda tr: tr.uid in _FLAG_UIDS)
+
     def _on_click(self, trace, points, selector) -> None:
         if points.point_inds:
             self.chosen_span = int(trace.customdata[points.point_inds[0]])
@@ -130,10 +142,11 @@ class TrajectoryView(w.VBox):
         return row, (int(used[-1]) if used.size else None)
 
     def _show(self, k: int) -> None:
-        shapes = self.series.layout.shapes
+        series = self.series
+        box = next(series.select_shapes(selector=dict(name=HIGHLIGHT)))
         if k < 0:
             self.detail.value = "<div class='pk-words'>No span chosen.</div>"
-            shapes[-1].visible = False
+            box.visible = False
             self._draw(None, None)
         else:
             s = self.spans[k]
@@ -147,17 +160,19 @@ class TrajectoryView(w.VBox):
             if rot is None:
                 words.append(f"row {row} was rejected: no pose to draw")
             else:
-                words.append(f"row {row}: Euler readback " + ", ".join(f"{v:.4g}" for v in e) + f" {unit}")
+                words.append(f"row {row}: Euler readback "
+                             + ", ".join(format_number(v, 4, trim=True) for v in e) + f" {unit}")
                 if self.report.quaternion is not None:
                     words.append("stored quaternion (sign made continuous): "
-                                 + ", ".join(f"{v:.4g}" for v in self.report.quaternion[row]))
+                                 + ", ".join(format_number(v, 4, trim=True) for v in self.report.quaternion[row]))
                 if prev is not None:
                     words.append(f"dotted: row {prev}, the used row before")
             self.detail.value = "<div class='pk-words'>" + "<br>".join(words) + "</div>"
-            with self.series.batch_update():
-                shapes[-1].x0 = shapes[k].x0  # the shaded box of span k (shape k), outlined
-                shapes[-1].x1 = shapes[k].x1
-                shapes[-1].visible = True
+            shaded = next(series.select_shapes(selector=dict(name=span_shape(k))))
+            with series.batch_update():
+                box.x0 = shaded.x0
+                box.x1 = shaded.x1
+                box.visible = True
             self._draw(rot, prev_rot)
 
     def _draw(self, rot, prev_rot) -> None:
@@ -166,10 +181,10 @@ class TrajectoryView(w.VBox):
             x, y, z = frame_points(np.eye(3) if r is None else r)
             xs.append(x), ys.append(y), zs.append(z), vis.append(r is not None)
         body = body_points(np.eye(3) if rot is None else rot)
-        self.pose_figure.plotly_restyle({"x": [xs[0], body[:, 0].tolist(), xs[1]],
-                                         "y": [ys[0], body[:, 1].tolist(), ys[1]],
-                                         "z": [zs[0], body[:, 2].tolist(), zs[1]],
-                                         "visible": [vis[0], vis[0], vis[1]]}, trace_indexes=[1, 2, 3])
+        self.pose_figure.restyle({
+            _FRAME: {"x": xs[0], "y": ys[0], "z": zs[0], "visible": vis[0]},
+            _BODY: {"x": body[:, 0].tolist(), "y": body[:, 1].tolist(), "z": body[:, 2].tolist(), "visible": vis[0]},
+            _PREVIOUS: {"x": xs[1], "y": ys[1], "z": zs[1], "visible": vis[1]}})
 
     # --- sharing ------------------------------------------------------------------------
     def to_state(self, notes: str = "") -> State:

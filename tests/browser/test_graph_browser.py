@@ -1,9 +1,11 @@
-"""The frame-graph widget in real JupyterLab: frames chosen with the keyboard, an edge flipped.
+"""The frame-graph widget in real JupyterLab: a question asked with the keyboard and by clicking
+two frames in the diagram, the best fix applied, an edge read the other way round.
 
 The expected numbers are computed here by posekit (the graph's lookups and placements,
 and the view's frame_points / graph_traces) and compared with the data plotly.js holds
-in the page.  The rover is invented demo data; these tests check that the page shows
-what posekit computes for it, not the rover's numbers themselves.
+in the page; the visible dropdowns are read from the page itself.  The rover is invented
+demo data; these tests check that the page shows what posekit computes for it, not the
+rover's numbers themselves.
 """
 
 from __future__ import annotations
@@ -14,10 +16,11 @@ import numpy as np
 
 from posekit.analysis.scenarios import ROVER_BACKWARDS_EDGE, orchard_rover, orchard_rover_planar
 from posekit.view.frames import frame_points
-from posekit.view.graph import FIRST_FRAME_TRACE, graph_traces
+from posekit.view.graph import LOOKUP_TRACE, NODES_TRACE, edge_trace_name, graph_traces
 
 SEL = ".posekit-graph-explorer"
-PATH_TRACE = 2
+SCENE = ".posekit-graph-scene-box"
+DIAGRAM = ".posekit-graph-diagram-box"
 
 
 def _cells(planar: bool):
@@ -32,17 +35,18 @@ def _cells(planar: bool):
 
 def _open(lab, name, planar):
     page = lab.open_notebook(name, _cells(planar))
-    page.wait_for_selector(f"{SEL} .js-plotly-plot", timeout=90_000)
-    page.wait_for_function(
-        "(sel) => { const gd = document.querySelector(sel + ' .js-plotly-plot'); return gd && gd.data && "
-        "gd.data.length > 5; }", arg=SEL)
+    for sel in (SCENE, DIAGRAM):
+        page.wait_for_selector(f"{sel} .js-plotly-plot", timeout=90_000)
+        page.wait_for_function(
+            "(sel) => { const gd = document.querySelector(sel + ' .js-plotly-plot'); return gd && gd.data && "
+            "gd.data.length > 5; }", arg=sel)
     return page
 
 
-def _trace(lab, page, name):
-    data = lab.plot_data(page, SEL)
+def _trace(lab, page, name, sel=SCENE):
+    data = lab.plot_data(page, sel)
     found = [t for t in data if t["name"] == name]
-    assert found, [t["name"] for t in data]
+    assert len(found) == 1, [t["name"] for t in data]
     return found[0]
 
 
@@ -55,67 +59,100 @@ def _assert_same(got, want_xyz):
         np.testing.assert_allclose(_numbers(got[axis]), _numbers(want), atol=1e-9, equal_nan=True)
 
 
-def _wait_change(page, index, before):
+def _wait_change(page, sel, name, before):
     page.wait_for_function(
-        "([sel, i, old]) => { const gd = document.querySelector(sel + ' .js-plotly-plot');"
-        " return !!(gd && gd.data && gd.data[i] && gd.data[i].x) &&"
-        " JSON.stringify(Array.from(gd.data[i].x)) !== old; }",
-        arg=[SEL, index, json.dumps(before, separators=(",", ":"))], timeout=30_000)
+        "([sel, name, old]) => { const gd = document.querySelector(sel + ' .js-plotly-plot');"
+        " if (!gd || !gd.data) return false; const t = gd.data.find(d => d.name === name);"
+        " return !!(t && t.x) && JSON.stringify(Array.from(t.x)) !== old; }",
+        arg=[sel, name, json.dumps(before, separators=(",", ":"))], timeout=30_000)
 
 
-def test_keyboard_lookup_and_flipped_edge_match_posekit(lab, artifacts):
+def _shown_option(page, css) -> str:
+    """The text of the option a native select shows (ipywidgets writes its spaces as no-break spaces)."""
+    text = page.locator(f"{css} select").evaluate("s => s.options[s.selectedIndex].textContent")
+    return text.replace("\u00a0", " ")
+
+
+def _click_node(page, frame):
+    """Click the node of ``frame`` in the diagram where the browser drew it."""
+    index, point = page.evaluate(
+        "([sel, trace, frame]) => { const gd = document.querySelector(sel + ' .js-plotly-plot');"
+        " const i = gd.data.findIndex(d => d.name === trace);"
+        " return [i, Array.from(gd.data[i].customdata).indexOf(frame)]; }", [DIAGRAM, NODES_TRACE, frame])
+    assert index >= 0 and point >= 0
+    dot = page.locator(f"{DIAGRAM} .scatterlayer .trace").nth(index).locator(".points path.point").nth(point)
+    dot.scroll_into_view_if_needed()
+    box = dot.bounding_box()
+    x, y = box["x"] + box["width"] / 2, box["y"] + box["height"] / 2
+    page.mouse.move(x, y)
+    page.wait_for_timeout(300)  # plotly finds the point under the mouse on hover, before the click
+    page.mouse.click(x, y)
+
+
+def test_question_by_keyboard_and_clicks_then_best_fix(lab, artifacts):
     g = orchard_rover()
     page = _open(lab, "graph_keys.ipynb", planar=False)
-    start_path = _trace(lab, page, "lookup path")
-    want, facts = graph_traces(g, root="base", lookup=g.lookup("world", "imu"))
-    _assert_same(start_path, (want[PATH_TRACE].x, want[PATH_TRACE].y, want[PATH_TRACE].z))
+    _, facts = graph_traces(g, root="base")
+    origins = {f: g.lookup("base", f).matrix[:3, 3] for f in g.frames}
+    arrow = _trace(lab, page, LOOKUP_TRACE)
+    _assert_same(arrow, [[origins["world"][k], origins["imu"][k]] for k in range(3)])
 
-    # keyboard: focus the "coordinates in" list and step from imu to camera
+    # keyboard: focus the "where is" list and step from imu to camera
     select = page.locator(".posekit-graph-from select")
     select.focus()
     page.keyboard.press("ArrowDown")
-    _wait_change(page, PATH_TRACE, start_path["x"])
+    _wait_change(page, SCENE, LOOKUP_TRACE, arrow["x"])
     assert select.input_value() == "camera"
-    look = g.lookup("world", "camera")
-    want, facts = graph_traces(g, root="base", lookup=look)
-    _assert_same(_trace(lab, page, "lookup path"),
-                 (want[PATH_TRACE].x, want[PATH_TRACE].y, want[PATH_TRACE].z))
-    # every frame is drawn where posekit's lookup from the drawing root puts it
+    _assert_same(_trace(lab, page, LOOKUP_TRACE), [[origins["world"][k], origins["camera"][k]] for k in range(3)])
+    # every frame is drawn where posekit's lookup from the drawing root puts it, arrows as long as posekit says
     for frame in ("camera", "lidar", "world"):
         m = g.lookup("base", frame).matrix
         _assert_same(_trace(lab, page, frame), frame_points(m[:3, :3], m[:3, 3], facts["scale"]))
     page.wait_for_function("() => document.querySelector('.posekit-graph-readouts').textContent"
-                           ".includes('coordinates in camera -> coordinates in world')", timeout=30_000)
+                           ".includes('Where is camera seen from world?')", timeout=30_000)
     readouts = page.locator(".posekit-graph-readouts").inner_text()
-    t = look.readout("sequence=z-y-x unit=degrees").translation
-    assert f"{t[0]: .4f}".strip() in readouts and f"{t[2]: .4f}".strip() in readouts
+    t = g.lookup("world", "camera").readout("sequence=z-y-x unit=degrees").translation
+    assert f"{t[0]:.4f}" in readouts and f"{t[2]:.4f}" in readouts
     assert page.locator(".posekit-graph-loops").inner_text().count("\u2717") == 1  # one loop does not close
+    assert any(t["name"].startswith("loop ") for t in lab.plot_data(page, DIAGRAM))
 
-    # click: choose the backwards edge and flip it
-    lidar_index = [t["name"] for t in lab.plot_data(page, SEL)].index("lidar")
+    # mouse: click lidar, then base, in the diagram - "where is lidar seen from base?"
+    _click_node(page, "lidar")
+    page.wait_for_function("() => document.querySelector('.posekit-graph-from select').value === 'lidar'",
+                           timeout=30_000)
+    _click_node(page, "base")
+    page.wait_for_function("() => document.querySelector('.posekit-graph-into select').value === 'base'",
+                           timeout=30_000)
+    page.wait_for_function("() => document.querySelector('.posekit-graph-readouts').textContent"
+                           ".includes('Where is lidar seen from base?')", timeout=30_000)
+    assert _shown_option(page, ".posekit-graph-from") == "lidar"
+
+    # another edge chosen first, then the best fix: the list must show the fixed edge at once
+    page.locator(".posekit-graph-edge select").select_option(index=1)
+    page.wait_for_function("() => document.querySelector('.posekit-graph-edge-words').textContent"
+                           ".includes('given in imu')", timeout=30_000)
     before = _trace(lab, page, "lidar")["x"]
-    page.locator(".posekit-graph-edge select").select_option(index=ROVER_BACKWARDS_EDGE)
-    page.wait_for_function("() => !!document.querySelector('.posekit-graph-edge-convention')")
-    page.locator(".posekit-graph-flip").click()
-    _wait_change(page, lidar_index, before)
-    fixed = g.flipped(ROVER_BACKWARDS_EDGE)
-    m = fixed.lookup("base", "lidar").matrix
-    # the widget keeps the arrow length it first drew (facts from the graph as entered)
-    _assert_same(_trace(lab, page, "lidar"), frame_points(m[:3, :3], m[:3, 3], facts["scale"]))
+    page.locator(".posekit-graph-apply-fix").click()
+    _wait_change(page, SCENE, "lidar", before)
     page.wait_for_function("() => !document.querySelector('.posekit-graph-loops').textContent.includes('\u2717')",
                            timeout=30_000)
+    page.wait_for_timeout(300)  # any late message would land here
+    assert _shown_option(page, ".posekit-graph-edge").startswith(f"{ROVER_BACKWARDS_EDGE}: base \u2192 lidar")
+    fixed = g.flipped(ROVER_BACKWARDS_EDGE)
+    m = fixed.lookup("base", "lidar").matrix
+    _assert_same(_trace(lab, page, "lidar"), frame_points(m[:3, :3], m[:3, 3], facts["scale"]))
+    assert not any(t["name"].startswith("loop ") for t in lab.plot_data(page, DIAGRAM))
     assert page.locator(".posekit-graph-edge-convention .posekit-setting-direction button.mod-active") \
         .inner_text().strip() == "parent \u2192 child"
     page.set_viewport_size({"width": 1400, "height": 1900})  # tall enough for the whole widget
-    page.wait_for_timeout(500)
-    page.locator(SEL).screenshot(path=str(artifacts / "graph-after-flip.png"))
+    page.wait_for_timeout(800)
+    page.locator(SEL).screenshot(path=str(artifacts / "graph-after-fix.png"))
     page.close()
 
 
 def test_planar_graph_edge_direction_by_keyboard(lab, artifacts):
     g = orchard_rover_planar()
     page = _open(lab, "graph_planar.ipynb", planar=True)
-    lidar_index = [t["name"] for t in lab.plot_data(page, SEL)].index("lidar")
     before = _trace(lab, page, "lidar")
     m = g.lookup("base", "lidar").matrix
     _, facts = graph_traces(g, root="base", lookup=g.lookup("world", "imu"))
@@ -131,12 +168,14 @@ def test_planar_graph_edge_direction_by_keyboard(lab, artifacts):
         page.keyboard.press("ArrowDown")
     page.wait_for_function(
         "() => { const w = document.querySelector('.posekit-graph-edge-words'); return w && "
-        "w.textContent.includes('coordinates in lidar -> coordinates in base'); }", timeout=30_000)
+        "w.textContent.includes('they take a point given in lidar, expressed in base'); }", timeout=30_000)
+    diagram_edge = _trace(lab, page, edge_trace_name(ROVER_BACKWARDS_EDGE), DIAGRAM)
+    assert diagram_edge is not None
     button = page.locator(".posekit-graph-edge-convention .posekit-setting-direction button",
                           has_text="parent \u2192 child")
     button.focus()
     page.keyboard.press("Space")
-    _wait_change(page, lidar_index, before["x"])
+    _wait_change(page, SCENE, "lidar", before["x"])
     fixed = g.flipped(ROVER_BACKWARDS_EDGE)
     m = fixed.lookup("base", "lidar").matrix
     want_x = [m[0, 2], m[0, 2] + s * m[0, 0], None, m[0, 2], m[0, 2] + s * m[0, 1]]
@@ -145,6 +184,6 @@ def test_planar_graph_edge_direction_by_keyboard(lab, artifacts):
     np.testing.assert_allclose(_numbers(got["x"]), _numbers(want_x), atol=1e-9, equal_nan=True)
     np.testing.assert_allclose(_numbers(got["y"]), _numbers(want_y), atol=1e-9, equal_nan=True)
     page.set_viewport_size({"width": 1400, "height": 1900})
-    page.wait_for_timeout(500)
+    page.wait_for_timeout(800)
     page.locator(SEL).screenshot(path=str(artifacts / "graph-planar-after-flip.png"))
     page.close()
