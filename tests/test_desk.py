@@ -225,7 +225,9 @@ def test_report_carries_the_diagnosis_lines(desk, tmp_path, monkeypatch):
     desk.share.name_box.value = "bug"
     desk.share.report_button.click()
     written = (tmp_path / "bug.html").read_text()
-    assert html.escape(desk.diagnosis.best.sentence) in written and "&lt;- chosen" in written
+    assert html.escape(desk.diagnosis.best.sentence) in written
+    chosen = desk.diagnosis.explanations[desk.chosen]
+    assert chosen.code in html.unescape(written)  # the report carries the corrected code of the chosen explanation
 
 
 def test_code_cell_rebuilds_the_same_desk_in_a_fresh_kernel():

@@ -212,14 +212,20 @@ class CopyButton(anywidget.AnyWidget):
 
 
 class _DeskShare(SharePanel):
-    """The share panel, with the diagnosis lines written into the HTML report."""
+    """The share panel, with the diagnosis (ranked, corrected numbers and code) written into the HTML report."""
 
     def _report(self) -> None:
         from ..view.report import write_report
 
         path = self._stem().with_suffix(".html")
-        write_report(self.owner.to_state(), path, diagnosis=self.owner.diagnosis_lines(),
-                     title="posekit debugging desk report")
+        d = self.owner.diagnosis
+        if d is not None:  # the whole diagnosis: the report shows the chosen explanation's numbers and code
+            chosen = min(int(self.owner.chosen), len(d.explanations) - 1)
+            write_report(self.owner.to_state(), path, diagnosis=d, chosen=chosen,
+                         title="posekit debugging desk report")
+        else:
+            write_report(self.owner.to_state(), path, diagnosis=self.owner.diagnosis_lines(),
+                         title="posekit debugging desk report")
         self.message.value = f"report written to <code>{html.escape(str(path.resolve()))}</code>"
 
 
