@@ -15,9 +15,15 @@ ARTIFACTS = Path(__file__).resolve().parents[2] / "artifacts"
 
 
 def pytest_collection_modifyitems(items):
+    browser = []
     for item in items:
         if "tests/browser" in str(item.fspath).replace("\\", "/"):
             item.add_marker(pytest.mark.browser)
+            browser.append(item)
+    # browser tests run last: Playwright's synchronous API keeps an event loop running in the test
+    # process, which the in-process widget tests (asyncio.run, kernel-like deferral) must not see
+    rest = [item for item in items if item not in browser]
+    items[:] = rest + browser
 
 
 @pytest.fixture(scope="session")
