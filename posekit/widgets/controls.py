@@ -242,12 +242,12 @@ class KeyboardScope(anywidget.AnyWidget):
     scope = t.Unicode(".posekit-graph-explorer").tag(sync=True)
 
 
-def restyle_traces(fig, changes: dict) -> None:
+def restyle_traces(fig, changes: dict, index=None) -> None:
     """Set trace properties by uid (or name): ``{uid: {property: value}}``, one plotly restyle.
 
     Uses plotly's public ``plotly_restyle``; the trace positions are looked up from the
-    uids (:func:`posekit.view.frames.trace_index`), never assumed.  Every trace must get
-    the same property names (plotly's restyle takes one list per property).
+    uids (``index``, by default :func:`posekit.view.frames.trace_index`), never assumed.
+    Every trace must get the same property names (plotly's restyle takes one list per property).
     """
     if not changes:
         return
@@ -255,8 +255,9 @@ def restyle_traces(fig, changes: dict) -> None:
     keys = list(changes[uids[0]])
     if any(list(changes[u]) != keys for u in uids):
         raise ValueError("restyle_traces: every trace needs the same property names in one call")
+    position = index if index is not None else (lambda uid: trace_index(fig, uid))
     fig.plotly_restyle({k: [changes[u][k] for u in uids] for k in keys},
-                       trace_indexes=[trace_index(fig, u) for u in uids])
+                       trace_indexes=[position(u) for u in uids])
 
 
 class LiveFigure(go.FigureWidget):
@@ -281,14 +282,7 @@ class LiveFigure(go.FigureWidget):
 
     def restyle(self, changes: dict) -> None:
         """``{uid: {property: value}}`` as one plotly restyle (see :func:`restyle_traces`)."""
-        if not changes:
-            return
-        uids = list(changes)
-        keys = list(changes[uids[0]])
-        if any(list(changes[u]) != keys for u in uids):
-            raise ValueError("restyle_traces: every trace needs the same property names in one call")
-        self.plotly_restyle({k: [changes[u][k] for u in uids] for k in keys},
-                            trace_indexes=[self.index(u) for u in uids])
+        restyle_traces(self, changes, self.index)
 
     def index(self, uid: str) -> int:
         """Position of the trace with this uid (or name), looked up once and remembered.
