@@ -19,7 +19,7 @@ import posekit as pk
 from posekit.analysis.diagnose import diagnose, diagnose_batch, expected_pose, expected_rows, pose_from_words
 from posekit.io.paste import parse_numbers
 from posekit.io.state import State, state_from_json, state_to_json
-from posekit.view.frames import frame_points
+from posekit.view.frames import frame_points, trace_index
 from posekit.view.report import report_html
 from posekit.widgets import DebugDesk, Explorer
 
@@ -79,13 +79,14 @@ def test_choosing_an_explanation_draws_its_overlays(desk, pick):
     assert desk.chosen == pick
     e = ref.explanations[pick]
     fig = desk.figure
-    assert [fig.data[k].name for k in (1, 3, 4)] == ["expected", "observed as read", "observed corrected"]
-    _assert_trace(fig.data[1], pk.read_rotation(EULER, "euler", CONV), np.zeros(3))
+    assert [fig.data[trace_index(fig, u)].name for u in ("frame", "overlay-1", "overlay-2")] == \
+        ["expected", "observed as read", "observed corrected"]
+    _assert_trace(fig.trace("frame"), pk.read_rotation(EULER, "euler", CONV), np.zeros(3))
     # observed as read: the pasted numbers read the way the convention says (scalar first), by the core
     as_read = pk.read_rotation(parse_numbers(desk.pasted).numbers, "quaternion", CONV, normalise=True)
-    _assert_trace(fig.data[3], as_read, np.zeros(3))
-    _assert_trace(fig.data[4], e.corrected_rotation, np.zeros(3))
-    assert all(fig.data[k].visible for k in (1, 3, 4))
+    _assert_trace(fig.trace("overlay-1"), as_read, np.zeros(3))
+    _assert_trace(fig.trace("overlay-2"), e.corrected_rotation, np.zeros(3))
+    assert all(fig.trace(u).visible for u in ("frame", "overlay-1", "overlay-2"))
     assert desk.code_box.value == e.code
     shown = ", ".join(f"{v:.9g}" for v in e.corrected_numbers)
     assert html.escape(shown) in desk.detail.value
@@ -104,9 +105,9 @@ def test_transform_paste_draws_translations():
     assert desk.expected_source == "pose"
     assert [e.sentence for e in desk.diagnosis.explanations] == [e.sentence for e in ref.explanations]
     e = ref.best
-    _assert_trace(desk.figure.data[1], rot, t)
-    _assert_trace(desk.figure.data[3], logged[:3, :3], logged[:3, 3])
-    _assert_trace(desk.figure.data[4], e.corrected_rotation, e.corrected_translation)
+    _assert_trace(desk.figure.trace("frame"), rot, t)
+    _assert_trace(desk.figure.trace("overlay-1"), logged[:3, :3], logged[:3, 3])
+    _assert_trace(desk.figure.trace("overlay-2"), e.corrected_rotation, e.corrected_translation)
     np.testing.assert_allclose(e.corrected_translation, t, atol=1e-6)
     # the scene grows to hold the farthest origin
     assert desk.figure.layout.scene.xaxis.range[1] >= np.max(np.abs(logged[:3, 3]))
@@ -148,8 +149,8 @@ def test_garbage_shows_where_parsing_stopped_escaped(desk):
     assert "<b>0.3" not in shown
     assert desk.diagnosis is None
     assert desk.explanation_list.options == ()
-    assert desk.figure.data[1].visible  # the expected pose is still known and drawn
-    assert not desk.figure.data[3].visible and not desk.figure.data[4].visible
+    assert desk.figure.trace("frame").visible  # the expected pose is still known and drawn
+    assert not desk.figure.trace("overlay-1").visible and not desk.figure.trace("overlay-2").visible
 
 
 def test_bad_description_and_unknown_count_are_shown():

@@ -31,7 +31,7 @@ from posekit import PoseInputError
 from posekit.analysis.frames_graph import FrameGraph, UnknownFrameError
 from posekit.analysis.scenarios import ROVER_BACKWARDS_EDGE, ROVER_FRAMES, orchard_rover, orchard_rover_planar
 from posekit.core.errors import WrongTypeError
-from posekit.view.frames import frame_points
+from posekit.view.frames import frame_points, trace_index
 from posekit.view.graph import (EDGE_LABELS_TRACE, FIX_TRACE, LEADERS_TRACE, LOOKUP_TRACE, NAMES_TRACE, NODES_TRACE,
                                 PATH_TRACE, auto_scale, diagram_layout, edge_trace_name, graph_diagram, graph_figure,
                                 graph_traces, label_points, loop_check_html, loop_trace_name, readout_html)
@@ -560,3 +560,50 @@ def test_widget_rescales_when_the_data_changes_by_a_factor_of_a_thousand():
         mm = mm.with_edge(e.parent, e.child, m, "matrix", None, e.source)
     ex.graph = mm
     assert f"{1000 * before:g} long" in ex.figure.layout.title.text
+
+
+def _seen_from(points, eye):
+    """Orthographic screen coordinates of ``points`` seen from ``eye`` (z up), written out here
+    independently of posekit's own projection (common practice: project onto the plane
+    normal to the viewing direction)."""
+    v = np.asarray(eye, float) / np.linalg.norm(eye)
+    side = np.cross([0.0, 0.0, 1.0], v)
+    side = side / np.linalg.norm(side) if np.linalg.norm(side) > 1e-9 else np.array([1.0, 0.0, 0.0])
+    up = np.cross(v, side)
+    return np.stack([points @ side, points @ up], axis=1)
+
+
+@pytest.mark.parametrize("eye", [(-1.5, 1.6, 0.3), (0.3, 0.2, 2.5), (2.2, 0.1, 0.4), (-0.4, -2.0, -0.8)])
+def test_turning_the_scene_moves_the_names_to_read_from_the_new_camera(eye):
+    from posekit.widgets.graph import GraphExplorer
+
+    g = orchard_rover()
+    view = GraphExplorer(g, from_frame="camera", into_frame="world", root="base")
+    fig = view.figure
+    first = np.array([fig.data[trace_index(fig, NAMES_TRACE)][c] for c in "xyz"], float).T
+    fig.layout.scene.camera.eye = dict(zip("xyz", eye))  # what plotly's front end sends when the user drags
+    names = np.array([fig.data[trace_index(fig, NAMES_TRACE)][c] for c in "xyz"], float).T
+    assert not np.allclose(first, names)
+    _, facts = graph_traces(g, root="base")
+    s = facts["scale"]
+    tips = []
+    for f in facts["frames"]:
+        o = g.lookup("base", f).matrix[:3, 3]
+        r = g.lookup("base", f).matrix[:3, :3]
+        tips.extend(o + s * r[:, k] for k in range(3))
+    flat_tips, flat_names = _seen_from(np.array(tips), eye), _seen_from(names, eye)
+    for k, p in enumerate(flat_names):  # as seen from the new camera, no name sits on an arrow tip or a name
+        assert np.min(np.linalg.norm(flat_tips - p, axis=1)) > 0.25 * s
+        for j in range(k):
+            assert np.linalg.norm(flat_names[j] - p) > 0.25 * s
+    # leaders run from each frame's origin to its new name
+    leaders = _segments(fig.data[trace_index(fig, LEADERS_TRACE)], 3)
+    for (a, b), f, p in zip(leaders, facts["frames"], names):
+        o = g.lookup("base", f).matrix[:3, 3]
+        np.testing.assert_allclose(np.cross(b - o, p - o), 0.0, atol=1e-9)
+    # a redraw (another question) keeps the names placed for the turned camera
+    view.swap()
+    again = np.array([fig.data[trace_index(fig, NAMES_TRACE)][c] for c in "xyz"], float).T
+    np.testing.assert_allclose(again, names)
+    with pytest.raises(PoseInputError, match="camera's eye"):
+        graph_figure(g, view=(0, 0, 0))

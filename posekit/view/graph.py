@@ -47,7 +47,7 @@ import plotly.graph_objects as go
 
 from ..analysis.frames_graph import FrameGraph, Lookup, LoopCheck, Readout, convention_words
 from ..core.errors import PoseInputError, WrongTypeError, summarise
-from .frames import frame_trace, palette_colours, planar_frame_trace
+from .frames import DEFAULT_PALETTE, frame_trace, palette_colours, planar_frame_trace
 from .readouts import matrix_html, numbers_html, panel_html, words_html
 
 __all__ = [
@@ -296,11 +296,26 @@ def _polyline(segments, dim: int) -> tuple[list, ...]:
     return tuple(cols)
 
 
+def _checked_view(view) -> np.ndarray:
+    """A camera eye as a finite, non-zero 3-vector (None: :data:`CAMERA_EYE`)."""
+    if view is None:
+        return np.asarray(CAMERA_EYE, dtype=np.float64)
+    try:
+        v = np.asarray(view, dtype=np.float64)
+    except (TypeError, ValueError):
+        v = np.full(1, np.nan)
+    if v.shape != (3,) or not np.all(np.isfinite(v)) or not np.linalg.norm(v) > 1e-12:
+        raise PoseInputError(f"graph_figure view: got {summarise(view, 60)}; expected the camera's eye as three "
+                             "finite numbers, not all zero (e.g. (1.5, -1.6, 1.0)), or None for the first camera")
+    return v
+
+
 def graph_traces(graph: FrameGraph, *, root: str | None = None, lookup: Lookup | None = None,
-                 palette: str = "standard", scale: float | None = None, letters: bool = True,
-                 size: tuple[int, int] = (520, 480)) -> tuple[list, dict]:
+                 palette: str = DEFAULT_PALETTE, scale: float | None = None, letters: bool = True,
+                 size: tuple[int, int] = (520, 480), view=None) -> tuple[list, dict]:
     """The traces of :func:`graph_figure` and facts for its layout (``size``: the figure's pixels, for
-    placing the names).
+    placing the names; ``view``: the camera's eye as a 3-vector, the names placed as seen from
+    there -- None: the scene's first camera, :data:`CAMERA_EYE`).
 
     Facts: ``scale`` (arrow length), ``planar``, ``root``, ``unreached`` (frames not joined
     to ``root``), ``frames`` (placed, in placement order), ``labels`` (``(k, d)`` name
@@ -326,7 +341,7 @@ def graph_traces(graph: FrameGraph, *, root: str | None = None, lookup: Lookup |
             raise PoseInputError(f"graph_figure scale: got {summarise(scale, 40)}; expected a positive finite number "
                                  "(the arrow length, in the numbers' length unit)")
     index = {f: k for k, f in enumerate(place.frames)}
-    view = None if dim == 2 else CAMERA_EYE
+    view = None if dim == 2 else _checked_view(view)
     flat = _screen(np.concatenate([origins, (origins[:, :, None] + s * rots).transpose(0, 2, 1).reshape(-1, dim)]),
                    view)
     # pixels to a unit of length: the drawing spans about 0.6 of the figure's smaller side (a drawing estimate)
@@ -396,13 +411,15 @@ def graph_traces(graph: FrameGraph, *, root: str | None = None, lookup: Lookup |
 
 
 def graph_figure(graph: FrameGraph, *, root: str | None = None, lookup: Lookup | None = None,
-                 palette: str = "standard", scale: float | None = None, letters: bool = True,
-                 title: str | None = None, height: int = 480, width: int | None = None) -> go.Figure:
+                 palette: str = DEFAULT_PALETTE, scale: float | None = None, letters: bool = True,
+                 title: str | None = None, height: int = 480, width: int | None = None, view=None) -> go.Figure:
     """Every frame of ``graph`` joined to ``root`` (default: the first frame) placed in ``root``'s axes.
 
     ``scale`` is the arrow length (default: :func:`auto_scale` of the frames' spacing);
     ``lookup`` adds the arrow from its ``into_frame``'s origin to its ``from_frame``'s
-    and writes both names in bold.  See the module docstring for the traces.
+    and writes both names in bold.  ``view`` (the camera's eye, a 3-vector; None: the first
+    camera) is where the frame names are placed to be read from; the scene starts there too.
+    See the module docstring for the traces.
 
     >>> from posekit.analysis.scenarios import orchard_rover
     >>> g = orchard_rover()
@@ -411,7 +428,7 @@ def graph_figure(graph: FrameGraph, *, root: str | None = None, lookup: Lookup |
     ['base', 'world', 'imu']
     """
     traces, facts = graph_traces(graph, root=root, lookup=lookup, palette=palette, scale=scale, letters=letters,
-                                 size=(width or 520, height))
+                                 size=(width or 520, height), view=view)
     if title is None:
         title = f"In {facts['root']}'s axes \u00b7 axis arrows {facts['scale']:g} long"
     if facts["unreached"]:
@@ -439,7 +456,8 @@ def graph_figure(graph: FrameGraph, *, root: str | None = None, lookup: Lookup |
             xaxis=dict(axis, range=[float(low[0]), float(high[0])], title=dict(text=f"{facts['root']} x")),
             yaxis=dict(axis, range=[float(low[1]), float(high[1])], title=dict(text=f"{facts['root']} y")),
             zaxis=dict(axis, range=[float(low[2]), float(high[2])], title=dict(text=f"{facts['root']} z")),
-            aspectmode="data", camera=dict(eye=dict(zip("xyz", CAMERA_EYE)), up=dict(x=0, y=0, z=1))),
+            aspectmode="data", camera=dict(eye=dict(zip("xyz", (float(v) for v in _checked_view(view)))),
+                                           up=dict(x=0, y=0, z=1))),
             uirevision="posekit-graph")
     fig.update_layout(height=height, width=width, margin=dict(l=10, r=10, t=36, b=10), showlegend=False,
                       title=dict(text=_text(title), font=dict(size=13), x=0.01))

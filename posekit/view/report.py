@@ -50,7 +50,7 @@ from ..core.transforms import write_transform
 from ..io.limits import NAME_LIMIT, check_text_size, write_atomic
 from ..io.settings import MAX_ITEMS, MAX_TEXT
 from ..io.state import REPORT_STATE_OPEN, State, state_from_json, state_to_json
-from .frames import frame_figure
+from .frames import DEFAULT_PALETTE, FRAME_UIDS, frame_figure, trace_index
 from .readouts import STYLE_SHEET, matrix_html, numbers_html, panel_html, row_html
 
 __all__ = ["report_html", "write_report", "shown_text", "ReportInputError", "SAFETY_NOTE", "TEMPLATE"]
@@ -283,12 +283,12 @@ def _figure_html(poses, palette: str) -> str:
     extent = 1.6 + float(np.max([np.abs(p.matrix[:3, 3]).max() for p in poses]))
     fig = frame_figure(first.matrix[:3, :3], first.matrix[:3, 3], overlays=overlays, body=True,
                        palette=palette, extent=extent, height=520)
-    fig.data[1].name = shown_text(first.name)
+    fig.data[trace_index(fig, FRAME_UIDS["frame"])].name = shown_text(first.name)
     return fig.to_html(full_html=False, include_plotlyjs=False, div_id="posekit-figure",
                        config={"displaylogo": False, "responsive": True})
 
 
-def report_html(state: State, *, title: str = "posekit report", diagnosis=None, palette: str = "standard",
+def report_html(state: State, *, title: str = "posekit report", diagnosis=None, palette: str = DEFAULT_PALETTE,
                 chosen: int = 0) -> str:
     """The whole report as one HTML string (see the module docstring).
 

@@ -47,9 +47,9 @@ from ..core.errors import PoseInputError
 from ..core.reading import as_convention, write_rotation
 from ..core.transforms import Pose, make_transform, write_transform
 from ..view.diagnosis import choice_words, error_html, guess_html, parsed_html, plural, residual_figure
-from ..view.frames import body_points, frame_figure, frame_points
+from ..view.frames import FRAME_UIDS, body_points, frame_figure, frame_points, overlay_uid, trace_index
 from ..view.readouts import STYLE_SHEET, matrix_html, panel_html
-from .controls import ConventionBar, KeyboardScope, OneMessageFigure
+from .controls import ConventionBar, KeyboardScope, LiveFigure
 from .sharing import SharePanel, python_call
 
 __all__ = ["DebugDesk", "EXPECTED_KINDS", "EXPECTED_OVERRIDES", "DESK_FIELDS", "DeskSettings", "CopyButton"]
@@ -69,7 +69,8 @@ _EXPECTED_BOX = "the 'pose you expected' box"
 #: the convention fields the desk offers (the rest stay at posekit's defaults)
 DESK_FIELDS = ("sequence", "axes", "unit", "scalar", "algebra", "layout", "direction")
 _IDENTITY16 = tuple(float(v) for v in np.eye(4).ravel())
-_EXPECTED, _BODY, _AS_READ, _CORRECTED = 1, 2, 3, 4
+#: the 3D view's traces, found by uid (frame_figure's stable uids), never by position
+_EXPECTED, _BODY, _AS_READ, _CORRECTED = FRAME_UIDS["frame"], FRAME_UIDS["body"], overlay_uid(0), overlay_uid(1)
 _SOURCES = (("typed: numbers or words", "numbers"), ("a description in words", "words"),
             ("a pose passed in", "pose"))
 
@@ -379,7 +380,7 @@ class DebugDesk(w.VBox):
         fig = frame_figure(np.eye(3), np.zeros(3), overlays=[("read", np.eye(3), np.zeros(3)),
                                                               ("fixed", np.eye(3), np.zeros(3))],
                            palette=palette, height=470)
-        self.figure = OneMessageFigure(self._style_figure(fig))
+        self.figure = LiveFigure(self._style_figure(fig))
         self.figure.add_class("posekit-desk-figure")
         self.figure_box = w.Box([self.figure], layout=w.Layout(width="100%"))
         self.figure_box.add_class("posekit-desk-3d")
@@ -702,12 +703,13 @@ class DebugDesk(w.VBox):
                                                                    ("fixed", np.eye(3), None)],
                                               palette=self.palette, height=470))
         with self.figure.batch_update():
-            for k, trace in enumerate(fig.data):
-                if k == _BODY:
+            for trace in fig.data:
+                if trace.uid == _BODY:
                     continue
-                self.figure.data[k].line = trace.line
-                self.figure.data[k].marker = trace.marker
-                self.figure.data[k].textfont = trace.textfont
+                shown = self.figure.trace(trace.uid)
+                shown.line = trace.line
+                shown.marker = trace.marker
+                shown.textfont = trace.textfont
 
     # --- computing and showing ----------------------------------------------------------
     def _sync_controls(self) -> None:
@@ -953,12 +955,15 @@ class DebugDesk(w.VBox):
 
     @staticmethod
     def _style_figure(fig: go.Figure) -> go.Figure:
-        fig.data[_EXPECTED].name = "expected"
-        fig.data[_AS_READ].name = "observed as read"
-        fig.data[_CORRECTED].name = "observed corrected"
-        fig.data[_AS_READ].line.dash = "dash"
-        fig.data[_CORRECTED].textposition = "bottom center"
-        fig.data[_BODY].name = "body (expected)"
+        def trace(uid):
+            return fig.data[trace_index(fig, uid)]
+
+        trace(_EXPECTED).name = "expected"
+        trace(_AS_READ).name = "observed as read"
+        trace(_CORRECTED).name = "observed corrected"
+        trace(_AS_READ).line.dash = "dash"
+        trace(_CORRECTED).textposition = "bottom center"
+        trace(_BODY).name = "body (expected)"
         fig.update_layout(width=470, height=430, margin=dict(l=0, r=0, t=5, b=0),
                           legend=dict(orientation="h", y=0.0, x=0.0, font=dict(size=11)))
         return fig
@@ -980,11 +985,11 @@ class DebugDesk(w.VBox):
             body = body_points(np.eye(3))
         reach = max([1.0] + [float(np.max(np.abs(o))) for _, o in drawn.values()])
         extent = max(1.6, reach + 1.2)
-        self.figure.plotly_restyle({"x": [xs[0], body[:, 0].tolist(), xs[1], xs[2]],
-                                    "y": [ys[0], body[:, 1].tolist(), ys[1], ys[2]],
-                                    "z": [zs[0], body[:, 2].tolist(), zs[1], zs[2]],
-                                    "visible": [vis[0], vis[0], vis[1], vis[2]]},
-                                   trace_indexes=[_EXPECTED, _BODY, _AS_READ, _CORRECTED])
+        self.figure.restyle({
+            _EXPECTED: {"x": xs[0], "y": ys[0], "z": zs[0], "visible": vis[0]},
+            _BODY: {"x": body[:, 0].tolist(), "y": body[:, 1].tolist(), "z": body[:, 2].tolist(), "visible": vis[0]},
+            _AS_READ: {"x": xs[1], "y": ys[1], "z": zs[1], "visible": vis[1]},
+            _CORRECTED: {"x": xs[2], "y": ys[2], "z": zs[2], "visible": vis[2]}})
         scene = self.figure.layout.scene
         if scene.xaxis.range is None or abs(scene.xaxis.range[1] - extent) > 1e-9:
             with self.figure.batch_update():

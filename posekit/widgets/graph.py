@@ -18,6 +18,7 @@ control is also a native select, button or toggle, so the widget works from the 
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import ClassVar
 
@@ -30,8 +31,10 @@ from ..analysis.frames_graph import FrameGraph, FrameGraphError, UnknownFrameErr
 from ..core.convention import Convention
 from ..core.errors import PoseInputError, WrongTypeError, isolate_controls, summarise
 from ..core.reading import as_convention
-from ..view.graph import (EDGE_LABELS_TRACE, FIX_TRACE, NODES_TRACE, auto_scale, edge_trace_name, graph_diagram,
-                          graph_figure, loop_check_html, point_words, readout_html)
+from ..view.frames import trace_index
+from ..view.graph import (EDGE_LABELS_TRACE, FIX_TRACE, LEADERS_TRACE, NAMES_TRACE, NODES_TRACE, auto_scale,
+                          edge_trace_name, graph_diagram, graph_figure, graph_traces, loop_check_html, point_words,
+                          readout_html)
 from ..view.readouts import STYLE_SHEET, words_html
 from ..io.settings import (Bool, Choice, ConventionText, Float, Text, Texts, WidgetSettings, fail, register_settings,
                            setting, shown)
@@ -187,9 +190,12 @@ class GraphExplorer(w.VBox):
         self.diagram = go.FigureWidget(graph_diagram(graph, lookup=look, check=check, selected_edge=0,
                                                      width=diagram_width, height=height))
         self.diagram.add_class("posekit-graph-diagram")
+        self._view = None  # the camera's eye the frame names are placed for (None: the first camera)
         self.figure = go.FigureWidget(graph_figure(graph, root=root, lookup=look, palette=palette, height=height,
                                                    width=width, scale=self._scale_for(graph, root)))
         self.figure.add_class("posekit-graph-figure")
+        # names are placed to be read from the camera: when the user turns the scene, they move with it
+        self.figure.layout.on_change(self._on_camera, "scene.camera")
 
         ask = w.VBox([w.HTML("<b>Ask</b> where one frame is, seen from another \u2014 pick both here, or click "
                              "two frames in the drawing"),
@@ -244,6 +250,36 @@ class GraphExplorer(w.VBox):
         self.observe(lambda _: self._sync_controls(), ["click_sets"])
         self._sync_edge_bar()
         self._refresh()
+
+    def _on_camera(self, layout, camera) -> None:
+        """The user turned the 3D scene: place the frame names again, as seen from the new eye."""
+        eye = getattr(camera, "eye", None)
+        if self.graph.planar or eye is None or None in (eye.x, eye.y, eye.z):
+            return
+        view = (float(eye.x), float(eye.y), float(eye.z))
+        if not all(math.isfinite(v) for v in view) or math.hypot(*view) < 1e-9:
+            return
+        if self._view is not None and max(abs(a - b) for a, b in zip(view, self._view)) < 1e-6:
+            return
+        self._view = view
+        self.place_names()
+
+    def place_names(self) -> None:
+        """Move the frame names (and their leader lines) to where they read best from the current camera."""
+        try:
+            look = self.graph.lookup(self.into_frame, self.from_frame)
+        except FrameGraphError:
+            look = None
+        traces, _ = graph_traces(self.graph, root=self.root, lookup=look, palette=self.palette,
+                                 scale=self._scale_for(self.graph, self.root), view=self._view,
+                                 size=(self._width or 520, self._height))
+        fresh = {tr.name: tr for tr in traces if tr.name in (NAMES_TRACE, LEADERS_TRACE)}
+        with self.figure.batch_update():
+            for name, tr in fresh.items():
+                shown = self.figure.data[trace_index(self.figure, name)]
+                shown.x, shown.y = tr.x, tr.y
+                if not self.graph.planar:
+                    shown.z = tr.z
 
     # --- actions (also callable from code) ------------------------------------------------
     # --- sharing ----------------------------------------------------------------------------
@@ -521,7 +557,8 @@ class GraphExplorer(w.VBox):
             self._connect_diagram()
         if scene:
             fresh = graph_figure(self.graph, root=self.root, lookup=look, palette=self.palette, height=self._height,
-                                 width=self._width, scale=self._scale_for(self.graph, self.root))
+                                 width=self._width, scale=self._scale_for(self.graph, self.root),
+                                 view=None if self.graph.planar else self._view)
             fig = self.figure
             fig.data = ()
             fig.add_traces(list(fresh.data))
