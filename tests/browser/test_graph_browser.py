@@ -16,7 +16,7 @@ import numpy as np
 
 from posekit.analysis.scenarios import ROVER_BACKWARDS_EDGE, orchard_rover, orchard_rover_planar
 from posekit.view.frames import frame_points
-from posekit.view.graph import LOOKUP_TRACE, NODES_TRACE, edge_trace_name, graph_traces
+from posekit.view.graph import LOOKUP_TRACE, NAMES_TRACE, NODES_TRACE, edge_trace_name, graph_traces
 
 SEL = ".posekit-graph-explorer"
 SCENE = ".posekit-graph-scene-box"
@@ -186,4 +186,30 @@ def test_planar_graph_edge_direction_by_keyboard(lab, artifacts):
     page.set_viewport_size({"width": 1400, "height": 1900})
     page.wait_for_timeout(800)
     page.locator(SEL).screenshot(path=str(artifacts / "graph-planar-after-flip.png"))
+    page.close()
+
+
+def test_turning_the_scene_by_mouse_moves_the_names_for_the_new_camera(lab, artifacts):
+    """Drag the 3D scene: plotly.js reports the camera to the kernel, and the names come back
+    placed for the new eye -- the same spots posekit places for that eye (graph_traces)."""
+    g = orchard_rover()
+    page = _open(lab, "graph_turn.ipynb", planar=False)
+    before = _trace(lab, page, NAMES_TRACE)
+    box = page.locator(f"{SCENE} .gl-container, {SCENE} .svg-container").first.bounding_box()
+    x0, y0 = box["x"] + box["width"] * 0.55, box["y"] + box["height"] * 0.55
+    page.mouse.move(x0, y0)
+    page.mouse.down()
+    for k in range(1, 13):  # a slow drag to the left and up, as a hand does
+        page.mouse.move(x0 - 18 * k, y0 - 6 * k)
+        page.wait_for_timeout(30)
+    page.mouse.up()
+    _wait_change(page, SCENE, NAMES_TRACE, before["x"])
+    eye = page.evaluate(f"() => document.querySelector('{SCENE} .js-plotly-plot')._fullLayout.scene.camera.eye")
+    _, facts = graph_traces(g, root="base", lookup=g.lookup("world", "imu"), view=(eye["x"], eye["y"], eye["z"]))
+    page.wait_for_timeout(500)  # the last camera of the drag may still be on its way
+    got = _trace(lab, page, NAMES_TRACE)
+    eye = page.evaluate(f"() => document.querySelector('{SCENE} .js-plotly-plot')._fullLayout.scene.camera.eye")
+    _, facts = graph_traces(g, root="base", lookup=g.lookup("world", "imu"), view=(eye["x"], eye["y"], eye["z"]))
+    _assert_same(got, facts["labels"].T)
+    page.locator(SCENE).screenshot(path=str(artifacts / "graph-scene-turned.png"))
     page.close()
