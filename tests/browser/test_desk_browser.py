@@ -247,11 +247,16 @@ def answer_from_empty_notebook(lab, bug: Bug, name: str):
         else:
             page.locator(f".posekit-setting-{field} button").filter(has_text=re.compile(f"^{value}")).click()
         actions.append(f"choose {field} {value}")
+    # the list and the code box are separate widgets whose updates reach the page one after the other:
+    # wait for the code written back in the reading just chosen, not the one before it
+    reading = bug.setting[1] if bug.setting is not None else ""
     page.wait_for_function(
-        "(want) => { const l = document.querySelector('.posekit-desk-list .widget-radio-box label');"
+        "([want, reading]) => { const l = document.querySelector('.posekit-desk-list .widget-radio-box label');"
         " const c = document.querySelector('.posekit-desk-code textarea');"
-        " return l && l.textContent.trim().startsWith(want) && c && c.value.includes('corrected ='); }",
-        arg="1. " + bug.sentence, timeout=120_000)
+        " const back = c ? c.value.split('written back in your reading')[1] : undefined;"
+        " return l && l.textContent.trim().startsWith(want) && c && c.value.includes('corrected =')"
+        " && back !== undefined && back.includes(reading); }",
+        arg=["1. " + bug.sentence, reading], timeout=120_000)
     seconds = time.perf_counter() - start
     return page, actions, seconds, page.locator(".posekit-desk-code textarea").input_value()
 
