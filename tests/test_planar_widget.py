@@ -27,7 +27,7 @@ def test_figure_shows_the_core_transform():
     assert _frame(p).x[1] == pytest.approx(1.0, abs=1e-12)
     # default colours, letters and units on both axes
     assert (trace.marker.color[1], trace.marker.color[4]) == PALETTES[DEFAULT_PALETTE][:2]
-    assert [t for t in trace.text if t] == ["x", "y"]
+    assert [t for t in trace.text if t.strip()] == ["x", "y"]
     assert (p.figure.layout.xaxis.title.text, p.figure.layout.yaxis.title.text) == ("parent x (m)", "parent y (m)")
 
 

@@ -57,6 +57,11 @@ DEFAULT_PALETTE = "colour-blind"
 FRAME_UIDS = {"parent": "parent", "frame": "frame", "body": "body", "step1": "step-1", "step2": "step-2"}
 TIP_SYMBOLS = ("diamond", "square", "circle")
 LETTERS = ("x", "y", "z")
+#: Text of a point that carries no letter in a 2D trace: a space, not "" -- plotly.js 4 drops the
+#: letters of a trace whose other points have empty text when the trace is restyled (its text join
+#: is keyed by point; plotly/plotly.js issue 5360 and its suggested workaround), seen in the planar
+#: explorer as tips losing their x after every move.
+BLANK = " "
 SCENE_RANGE = 1.6
 
 
@@ -307,12 +312,12 @@ def planar_frame_trace(m, name: str, colours, scale: float = 1.0, *, opacity: fl
     xs, ys, text, cols, sizes, syms = [], [], [], [], [], []
     for k in range(2):
         if k:
-            xs.append(None), ys.append(None), text.append(""), cols.append(colours[k])
+            xs.append(None), ys.append(None), text.append(BLANK), cols.append(colours[k])
             sizes.append(0), syms.append("circle")
         tip = o + scale * m[:2, k]
         xs += [float(o[0]), float(tip[0])]
         ys += [float(o[1]), float(tip[1])]
-        text += ["", (LETTERS[k] + suffix) if letters else ""]
+        text += [BLANK, (LETTERS[k] + suffix) if letters else BLANK]
         cols += [colours[k], colours[k]]
         sizes += [0, tip_size]
         syms += [TIP_SYMBOLS[k], TIP_SYMBOLS[k]]
