@@ -71,9 +71,9 @@ def test_the_ast_check_can_fail(tmp_path):
 # "Layers"): imports go one way only, down the list.
 LAYERS = {
     "core": ({"numpy"}, set()),
-    "io": ({"numpy"}, {"core"}),
+    "io": ({"numpy", "pyarrow"}, {"core"}),
     "explain": ({"numpy"}, {"core", "io"}),
-    "analysis": ({"numpy", "scipy"}, {"core", "io", "explain"}),
+    "analysis": ({"numpy", "scipy", "pyarrow", "dask", "pandas"}, {"core", "io", "explain"}),
     "view": ({"numpy", "scipy", "plotly", "jinja2"}, {"core", "io", "explain", "analysis"}),
     "widgets": ({"numpy", "scipy", "plotly", "jinja2", "ipywidgets", "anywidget", "traitlets", "IPython"},
                 {"core", "io", "explain", "analysis", "view"}),
@@ -107,3 +107,47 @@ def test_every_layer_imports_only_downwards(layer):
                 assert target in below or target == layer, f"{layer}/{path.name} imports {module}"
                 continue
             assert top in stdlib or top in outside, f"{layer}/{path.name} imports {module}; allowed: {outside}"
+
+
+# Optional packages (the "logs" extra): imported inside the functions that use them, never at import time,
+# so posekit, posekit.io and posekit.analysis import and read CSV logs without them.
+OPTIONAL = ("pyarrow", "dask", "pandas", "distributed")
+
+
+def test_importing_the_layers_loads_no_optional_package():
+    code = ("import json, sys; import posekit, posekit.io, posekit.analysis; "
+            "print(json.dumps(sorted({m.split('.')[0] for m in sys.modules})))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True,
+                         env={**os.environ, "PYTHONPATH": str(ROOT)})
+    loaded = set(json.loads(out.stdout))
+    assert not loaded & set(OPTIONAL), sorted(loaded & set(OPTIONAL))
+
+
+def test_posekit_works_with_the_optional_packages_blocked(tmp_path):
+    """A child process where importing pyarrow, dask, pandas or distributed fails, as on a plain install."""
+    log = tmp_path / "log.csv"
+    log.write_text("time,qw,qx,qy,qz\n0,1,0,0,0\n1,-1,0,0,0\n2,-1,0,0,0\n")
+    code = f"""
+import sys
+class Block:
+    def find_spec(self, name, path=None, target=None):
+        if name.split('.')[0] in {OPTIONAL!r}:
+            raise ImportError('blocked for the test: ' + name)
+sys.meta_path.insert(0, Block())
+import posekit, posekit.io, posekit.analysis
+from posekit.analysis import check_trajectory_csv, check_logs
+from posekit.io.logs import MissingPackageError
+report = check_trajectory_csv({str(log)!r})
+print(report.counts()["quaternion_sign_flips"], report.mapping.time)
+try:
+    check_logs({str(tmp_path)!r})
+except MissingPackageError as exc:
+    print("refused:", exc)
+"""
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT,
+                         env={**os.environ, "PYTHONPATH": str(ROOT)})
+    assert out.returncode == 0, out.stderr
+    first, second = out.stdout.strip().splitlines()
+    assert first == "1 time"
+    assert second.startswith("refused: the table of findings needs the optional package pandas")
+    assert 'pip install "posekit[logs]"' in second

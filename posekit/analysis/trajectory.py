@@ -1,7 +1,8 @@
 """Trajectory checks: scan a logged stream of orientations for the things that look like jumps.
 
-Input is arrays (:func:`check_trajectory`) or a CSV file read with numpy
-(:func:`read_trajectory_csv`, :func:`check_trajectory_csv`).  Poses are quaternions
+Input is arrays (:func:`check_trajectory`) or a CSV or Parquet log read by
+:mod:`posekit.io.logs` (pyarrow when installed, else numpy and the csv module;
+:func:`read_trajectory_csv`, :func:`check_trajectory_csv`).  Poses are quaternions
 ``(N, 4)``, Euler angles ``(N, 3)`` or matrices ``(N, 3, 3)`` / ``(N, 9)``, read under a
 :class:`~posekit.core.convention.Convention` by :func:`posekit.read_rotation` (the only
 place a convention is applied).  Up to 1e6 rows are scanned in fixed-size chunks, so the
@@ -158,10 +159,12 @@ class ColumnMapping:
 
 @dataclass(frozen=True)
 class TrajectoryTable:
-    """A CSV read into arrays: ``times (N,)``, ``values (N, 4) / (N, 3) / (N, 9) / (N, 3, 3)``.
+    """A CSV or Parquet log read into arrays: ``times (N,)``, ``values (N, 4) / (N, 3) / (N, 9) / (N, 3, 3)``.
 
     Rows that could not be read hold NaN and are listed in ``rejected``; ``lines (N,)``
-    are their 1-based line numbers in the file.
+    are their 1-based line numbers in the file (None for Parquet, whose rows have no
+    lines).  ``reader``: ``"pyarrow"`` or ``"python"``, the reader that read it;
+    ``format``: ``"csv"`` or ``"parquet"``.
     """
 
     source: str
@@ -169,8 +172,10 @@ class TrajectoryTable:
     values: np.ndarray
     kind: str
     mapping: ColumnMapping
-    lines: np.ndarray
+    lines: np.ndarray | None
     rejected: tuple[RejectedRow, ...]
+    reader: str = "python"
+    format: str = "csv"
 
 
 @dataclass(frozen=True)
@@ -690,15 +695,15 @@ def _norm_name(name: str) -> str:
     return re.sub(r"[\s.\-/:\[\]()]+", "_", name.strip().strip("\"'").lower()).strip("_")
 
 
-def _clash(role: str, idx, names, header_line) -> DuplicateColumnError:
+def _clash(role: str, idx, names, head) -> DuplicateColumnError:
     cols = ", ".join(f"{excerpt(names[i], 30)} (column {i})" for i in idx)
     return DuplicateColumnError(
-        f"CSV header (line {header_line}): {role} is claimed by {len(idx)} columns: {cols}, so which one to read "
+        f"{head[0]}: {role} is claimed by {len(idx)} columns: {cols}, so which one to read "
         "is unclear; accepted: one column per role: rename the extra columns, or pass time_column= and "
         "value_columns= as 0-based column numbers")
 
 
-def _infer(names, kind, conv, header_line):
+def _infer(names, kind, conv, head):
     """(time index, value indices, kind, words, notes, matrix-by-name flag) from header names.
 
     Two columns that claim one role (the same name twice, or ``qw`` and ``q_w``) raise
@@ -709,13 +714,13 @@ def _infer(names, kind, conv, header_line):
     if not time_cands:
         time_cands = [i for i, x in enumerate(norm) if x.startswith("time") or "stamp" in x]
     if not time_cands:
-        raise MissingColumnError(f"CSV header (line {header_line}): no timestamp column found among "
+        raise MissingColumnError(f"{head[0]}: no timestamp column found among "
                                  f"{names_words(names)}; accepted: a name such as 'time', 'timestamp', 't' or "
                                  "'stamp', or pass time_column=")
     time_idx = time_cands[0]
     same_time = [i for i, x in enumerate(norm) if x == norm[time_idx]]
     if len(same_time) > 1:
-        raise _clash(f"the timestamp {excerpt(names[time_idx], 30)}", same_time, names, header_line)
+        raise _clash(f"the timestamp {excerpt(names[time_idx], 30)}", same_time, names, head)
     notes = []
     found = {}
     clashes = {}
@@ -759,7 +764,7 @@ def _infer(names, kind, conv, header_line):
         if conv.is_proper_euler:
             if kind == "euler" or not (set(found) - {"euler"}):
                 raise MissingColumnError(
-                    f"CSV header: roll/pitch/yaw columns cannot be placed in the proper Euler sequence "
+                    f"{head[0]}: roll/pitch/yaw columns cannot be placed in the proper Euler sequence "
                     f"{conv.sequence} (it turns about one axis twice); accepted: value_columns= in the sequence's "
                     "order")
         else:
@@ -776,7 +781,7 @@ def _infer(names, kind, conv, header_line):
                 notes.append("note: the Euler column names mention radians but the convention says degrees")
     if kind is not None:
         if kind not in found:
-            raise MissingColumnError(f"CSV header (line {header_line}): no {kind} columns recognised among "
+            raise MissingColumnError(f"{head[0]}: no {kind} columns recognised among "
                                      f"{names_words(names)}{_duplicate_words(names)}; accepted: header names posekit "
                                      "knows (qw..qz, r11..r33, roll/pitch/yaw), or pass value_columns=")
         chosen = kind
@@ -784,14 +789,14 @@ def _infer(names, kind, conv, header_line):
         chosen = next((k for k in ("quaternion", "matrix", "euler") if k in found), None)
         if chosen is None:
             raise MissingColumnError(
-                f"CSV header (line {header_line}): no pose columns recognised among {names_words(names)}"
+                f"{head[0]}: no pose columns recognised among {names_words(names)}"
                 f"{_duplicate_words(names)}{_odd_name_words(names)}; accepted: quaternion columns such as qw, qx, "
                 "qy, qz, matrix entries r00..r22, or roll, pitch, yaw; or pass value_columns=")
         if len(found) > 1:
             notes.append(f"note: columns for {', '.join(sorted(found))} were all found; used {chosen} "
                          "(pass kind= to choose)")
     for role, idx in clashes.get(chosen, ()):
-        raise _clash(role, idx, names, header_line)
+        raise _clash(role, idx, names, head)
     idx, words = found[chosen]
     return time_idx, idx, chosen, words, notes, chosen == "matrix"
 
@@ -815,7 +820,7 @@ def _duplicate_words(names) -> str:
                             for n, ix in dup[:3]) + ")"
 
 
-def _resolve(col, names, header: bool, what: str, header_line=None) -> int:
+def _resolve(col, names, header: bool, what: str, head=("CSV header", "the header")) -> int:
     if isinstance(col, (int, np.integer)) and not isinstance(col, bool):
         if not 0 <= col < len(names):
             raise MissingColumnError(f"{what}: column number {col} does not exist; the file has {len(names)} "
@@ -827,23 +832,23 @@ def _resolve(col, names, header: bool, what: str, header_line=None) -> int:
                                      "line; accepted: 0-based column numbers")
         exact = [i for i, x in enumerate(names) if x == col]
         if len(exact) > 1:
-            raise _clash(f"{what} {excerpt(col, 30)}", exact, names, header_line)
+            raise _clash(f"{what} {excerpt(col, 30)}", exact, names, head)
         if exact:
             return exact[0]
         normed = [i for i, x in enumerate(names) if _norm_name(x) == _norm_name(col)]
         if len(normed) > 1:
-            raise _clash(f"{what} {excerpt(col, 30)}", normed, names, header_line)
+            raise _clash(f"{what} {excerpt(col, 30)}", normed, names, head)
         if normed:
             return normed[0]
-        raise MissingColumnError(f"{what}: column {excerpt(col, 40)} is not in the header (line {header_line}); "
+        raise MissingColumnError(f"{what}: column {excerpt(col, 40)} is not in {head[1]}; "
                                  f"accepted: one of {names_words(names)}, or a 0-based column number")
     raise TrajectoryInputError(f"{what}: got {summarise(col, 40)}; expected a column name or a 0-based column number")
 
 
 def read_trajectory_csv(source, *, kind: str | None = None, convention=None, time_column=None, value_columns=None,
                         delimiter: str | None = None, comment: str | None = "#",
-                        limit: int = LOG_LIMIT) -> TrajectoryTable:
-    """Read a CSV file of timestamps and poses -> :class:`TrajectoryTable`.
+                        limit: int = LOG_LIMIT, reader: str = "auto") -> TrajectoryTable:
+    """Read a CSV (or Parquet) file of timestamps and poses -> :class:`TrajectoryTable`.
 
     ``source``: a path, ``"-"`` (standard input) or an open file; at most ``limit``
     bytes are read (default :data:`~posekit.io.limits.LOG_LIMIT`, 1 GiB; past it a
@@ -860,6 +865,13 @@ def read_trajectory_csv(source, *, kind: str | None = None, convention=None, tim
     line; a missing or doubly named column, an empty file or a file with no data rows
     raises a :class:`TrajectoryInputError` subclass.
 
+    ``reader``: ``"auto"`` (pyarrow when the optional package is installed, else the
+    Python reader), ``"pyarrow"`` or ``"python"``; both give the same table (see
+    :mod:`posekit.io.logs`).  A Parquet file (recognised by its signature) is read by
+    pyarrow with the same column mapping: its column names are the header, rows have no
+    line numbers, a null value rejects its row, and a column that holds no numbers
+    raises :class:`~posekit.io.logs.LogColumnTypeError` naming it.
+
     >>> text = io.StringIO("time,qw,qx,qy,qz\\n0,1,0,0,0\\n1,oops,0,0,0\\n")
     >>> table = read_trajectory_csv(text)
     >>> table.mapping.words.split(";")[1]
@@ -868,28 +880,32 @@ def read_trajectory_csv(source, *, kind: str | None = None, convention=None, tim
     "row 1 (line 3): text 'oops' in numeric column qw"
     """
     conv = as_convention(convention)
-    log = read_log(source, limit=limit, delimiter=delimiter, comment=comment)
+    log = read_log(source, limit=limit, delimiter=delimiter, comment=comment, reader=reader)
     name, header, hl = log.source, log.header, log.header_line
     names = list(log.names)
+    if log.format == "parquet":
+        head = (f"Parquet file {name}", f"the columns of Parquet file {name}")
+    else:
+        head = (f"CSV header (line {hl})", f"the header (line {hl})")
     notes: list[str] = []
     by_name_matrix = False
     if value_columns is None:
         if not header:
             raise MissingColumnError(f"CSV file {name} has no header line, so the columns cannot be inferred; "
                                      "accepted: time_column= and value_columns= as 0-based column numbers")
-        ti, vi, kind_found, words, notes, by_name_matrix = _infer(names, kind, conv, hl)
+        ti, vi, kind_found, words, notes, by_name_matrix = _infer(names, kind, conv, head)
         if time_column is not None:
-            ti = _resolve(time_column, names, header, "time_column", hl)
+            ti = _resolve(time_column, names, header, "time_column", head)
         inferred = True
     else:
         if time_column is None:
             raise MissingColumnError("value_columns given without time_column; accepted: both, or neither to infer "
                                      "them from the header")
-        ti = _resolve(time_column, names, header, "time_column", hl)
+        ti = _resolve(time_column, names, header, "time_column", head)
         if isinstance(value_columns, (str, bytes)) or not hasattr(value_columns, "__len__"):
             raise TrajectoryInputError(f"value_columns: got {summarise(value_columns, 40)}; expected a list of "
                                        "names or numbers")
-        vi = [_resolve(c, names, header, "value_columns", hl) for c in value_columns]
+        vi = [_resolve(c, names, header, "value_columns", head) for c in value_columns]
         by_count = {4: "quaternion", 3: "euler", 9: "matrix"}
         kind_found = kind or by_count.get(len(vi))
         if kind_found is None or by_count.get(len(vi)) != kind_found:
@@ -904,13 +920,14 @@ def read_trajectory_csv(source, *, kind: str | None = None, convention=None, tim
                                    "would be read twice (as the time and a pose value, or as two pose values); "
                                    "accepted: a different column for the time and for each value")
     unused = {n: ix for n, ix in log.duplicates().items() if not set(ix) & set(cols)}
-    notes = list(notes) + [f"note: the header (line {hl}) names columns {', '.join(map(str, ix))} all "
+    notes = list(notes) + [f"note: {head[1]} names columns {', '.join(map(str, ix))} all "
                            f"{excerpt(n, 30)}; none of them is read" for n, ix in list(unused.items())[:3]]
     words = f"time column {names[ti]}; {words}" + ("; inferred from the header (pass time_column= and "
                                                     "value_columns= to override)" if inferred else "")
     mapping = ColumnMapping(names[ti], tuple(names[i] for i in vi), kind_found, inferred, words, tuple(notes))
     arr, rejected = log.numbers(cols)
-    line_no = log.lines
+    line_no, reader, fmt = log.lines, log.reader, log.format
+    del log                                   # the file's bytes and lines go before the arrays are copied
     bad = ~np.isfinite(arr).all(axis=1)
     if bad.any():
         seen = {r.row for r in rejected}
@@ -918,23 +935,25 @@ def read_trajectory_csv(source, *, kind: str | None = None, convention=None, tim
             if int(r) not in seen:
                 which = [names[c] for c, ok in zip(cols, np.isfinite(arr[r])) if not ok]
                 rejected.append(RejectedRow(int(r), f"NaN or infinity in column {', '.join(which)}; accepted: finite "
-                                            "numbers", int(line_no[r]), "NaN or infinity"))
+                                            "numbers", None if line_no is None else int(line_no[r]),
+                                            "NaN or infinity"))
         rejected.sort(key=lambda x: x.row)
     times = np.ascontiguousarray(arr[:, 0])
     values = np.ascontiguousarray(arr[:, 1:])
     if by_name_matrix:
         values = values.reshape(-1, 3, 3)
-    return TrajectoryTable(str(name), times, values, kind_found, mapping, line_no, tuple(rejected))
+    return TrajectoryTable(str(name), times, values, kind_found, mapping, line_no, tuple(rejected), reader, fmt)
 
 
 def check_trajectory_csv(source, *, kind: str | None = None, convention=None, time_column=None, value_columns=None,
                          delimiter: str | None = None, comment: str | None = "#", limit: int = LOG_LIMIT,
-                         **checks) -> TrajectoryReport:
-    """Read a CSV (:func:`read_trajectory_csv`) and scan it (:func:`check_trajectory`) -> :class:`TrajectoryReport`.
+                         reader: str = "auto", **checks) -> TrajectoryReport:
+    """Read a CSV or Parquet log (:func:`read_trajectory_csv`), scan it (:func:`check_trajectory`) -> a report.
 
     The report carries the column mapping and lists the unreadable rows with their
-    file line numbers.  ``limit``: the most bytes read (default 1 GiB).  ``checks`` are
-    the keyword options of :func:`check_trajectory`.
+    file line numbers.  ``limit``: the most bytes read (default 1 GiB); ``reader``: as in
+    :func:`read_trajectory_csv`.  ``checks`` are the keyword options of
+    :func:`check_trajectory`.
 
     >>> text = io.StringIO("t,qx,qy,qz,qw\\n0,0,0,0,1\\n1,0,0,0,-1\\n2,0,0,0,-1\\n")
     >>> check_trajectory_csv(text).counts()["quaternion_sign_flips"]
@@ -946,7 +965,8 @@ def check_trajectory_csv(source, *, kind: str | None = None, convention=None, ti
                                    f"{', '.join(sorted(_CHECK_OPTIONS))}")
     conv = as_convention(convention)
     table = read_trajectory_csv(source, kind=kind, convention=conv, time_column=time_column,
-                                value_columns=value_columns, delimiter=delimiter, comment=comment, limit=limit)
+                                value_columns=value_columns, delimiter=delimiter, comment=comment, limit=limit,
+                                reader=reader)
     return _scan(table.times, table.values, table.kind, conv, _known=table.rejected, _mapping=table.mapping,
                  _lines=table.lines, **checks)
 
