@@ -452,3 +452,210 @@ def test_no_overlap_and_a_reference_that_is_no_rotation():
         align_streams(ta, qa, "scalar=first", tb, qb, "scalar=last", min_axis_spread=4.0)
     with pytest.raises(WrongShapeError, match="nominal_mount"):
         align_streams(ta, qa, "scalar=first", tb, qb, "scalar=last", nominal_mount=np.eye(2))
+
+
+# --------------------------------------------------------------------------------------
+# the curves a view draws: correlation per trial offset, speeds before and after the shift
+# --------------------------------------------------------------------------------------
+
+def _rms(x):
+    return float(np.sqrt(np.mean(np.square(x))))
+
+
+@pytest.mark.parametrize("seed", GRID_SEEDS)
+def test_the_correlation_curve_peaks_at_the_reported_offset(seed):
+    truth = _truth(seed)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    out = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, rb.as_euler("ZYX", degrees=True),
+                        "sequence=z-y-x")
+    c = out.correlation
+    assert c.offset == out.offset
+    assert c.offsets.shape == c.correlation.shape and c.offsets.size > 100
+    assert np.all(np.diff(c.offsets) > 0) and np.allclose(np.diff(c.offsets), c.step)
+    # the best lag searched is within one grid step of the reported (sub-sample) offset ...
+    assert abs(c.best_searched - out.offset) <= c.step + 1e-9
+    # ... and the best of the lags next to the peak within half a step of it (the parabola's shift)
+    best_near = c.peak_offsets[int(np.nanargmax(c.peak_correlation))]
+    assert abs(best_near - out.offset) <= 0.5 * c.peak_step + 1e-9
+    assert np.nanmax(c.correlation) == pytest.approx(np.nanmax(c.peak_correlation), abs=1e-9)
+    assert np.nanmax(c.peak_correlation) == pytest.approx(out.time_offset.correlation, abs=1e-12)
+    # ground truth (the generated clock offset) within one sample period of A
+    assert abs(out.offset - truth["offset"]) <= 1.0 / A_RATE
+    # far from the peak the speeds do not line up: the curve is no flat line
+    far = np.abs(c.offsets - out.offset) > 3.0
+    assert np.nanmax(c.correlation[far]) < np.nanmax(c.correlation) - 0.1
+
+
+def test_a_long_stream_keeps_the_coarse_curve_and_the_fine_lags_near_its_peak():
+    """Longer than COARSE_SAMPLES: the whole range is searched on block means, the peak on the full grid."""
+    from posekit.analysis.alignment import COARSE_SAMPLES
+
+    rng = np.random.default_rng(91)
+    duration = 200.0
+    keys = np.linspace(0.0, duration, 41)
+    spline = RotationSpline(keys, Rotation.random(41, random_state=91))            # scipy ground truth
+    offset = float(rng.uniform(-2, 2))
+    ta = np.arange(0.0, duration, 1.0 / A_RATE)
+    tau = np.arange(3.0, duration - 3.0, 1.0 / A_RATE) + 0.0037
+    mount = Rotation.random(random_state=92)
+    rb = spline(tau) * mount
+    assert len(ta) > COARSE_SAMPLES
+    out = align_streams(ta, spline(ta).as_quat(scalar_first=True), "scalar=first", tau - offset, rb.as_quat(),
+                        "scalar=last")
+    c = out.correlation
+    assert c.step > c.peak_step * 1.5                                              # coarse whole range, fine peak
+    assert abs(c.best_searched - out.offset) <= c.step + 1e-9
+    assert abs(c.peak_offsets[int(np.nanargmax(c.peak_correlation))] - out.offset) <= 0.5 * c.peak_step + 1e-9
+    assert abs(out.offset - offset) <= 1.0 / A_RATE
+
+
+@pytest.mark.parametrize("name", ["none", "degrees read as radians", "x-y-z read as z-y-x"])
+def test_shifted_speeds_of_b_match_a_and_scipy_angular_rate(name):
+    """B's speed curve under the diagnosed reading, put on A's clock by the offset, is the body's angular
+    speed: scipy's RotationSpline first derivative (the angular rate vector), and A's own speed curve."""
+    stated, writer, _, _, needs_nominal = ROTATION_SLIPS[name]
+    truth = _truth(12)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    out = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, writer(rb), stated,
+                        nominal_mount=_nominal(truth, 12) if needs_nominal else None)
+    s = out.speeds
+    assert s.offset == out.offset and s.reading == out.slip.true
+    assert s.times_a.shape == s.speed_a.shape and s.times_b.shape == s.speed_b.shape
+    assert len(s.speed_b) >= len(tb) - 2                                           # every row, not a thinned set
+    truth_b = np.linalg.norm(truth["spline"](s.times_b_aligned, 1), axis=1)       # scipy: |omega| on A's clock
+    truth_a = np.linalg.norm(truth["spline"](s.times_a, 1), axis=1)
+    assert _rms(s.speed_b - truth_b) <= 1e-3 * _rms(truth_b)
+    assert _rms(s.speed_a - truth_a) <= 1e-3 * _rms(truth_a)
+    inside = (s.times_b_aligned >= s.times_a[0]) & (s.times_b_aligned <= s.times_a[-1])
+    on_a = np.interp(s.times_b_aligned[inside], s.times_a, s.speed_a)
+    assert _rms(s.speed_b[inside] - on_a) <= 1e-3 * _rms(on_a)
+    # before the shift (B's own clock) the same comparison is far off: the offset matters
+    before = np.interp(s.times_b[inside], s.times_a, s.speed_a)
+    assert _rms(s.speed_b[inside] - before) > 20 * _rms(s.speed_b[inside] - on_a)
+
+
+def test_noisy_speeds_match_scipy_within_the_noise():
+    """0.05 degree rms orientation noise on B (numpy normal rotation vectors): the speed noise of one
+    sample is about sqrt(2/3) sigma / dt (two noisy samples, the noise's share along the turn);
+    B's shifted speeds stay within 1.5 times that of scipy's angular speed."""
+    truth = _truth(22)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    rng = np.random.default_rng(22)
+    sigma = math.radians(0.05)
+    noisy = rb * Rotation.from_rotvec(rng.normal(size=(len(rb), 3)) * sigma / math.sqrt(3))
+    out = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, noisy.as_quat(), "scalar=last")
+    s = out.speeds
+    truth_b = np.linalg.norm(truth["spline"](s.times_b_aligned, 1), axis=1)       # scipy
+    expected = math.sqrt(2.0 / 3.0) * sigma / float(np.median(np.diff(s.times_b)))
+    assert _rms(s.speed_b - truth_b) <= 1.5 * expected
+    unshifted = np.linalg.norm(truth["spline"](np.clip(s.times_b, 0.0, DURATION), 1), axis=1)
+    assert _rms(s.speed_b - unshifted) > 3 * expected
+
+
+def test_the_curves_travel_as_plain_data_only_when_asked():
+    truth = _truth(13)
+    ta, ra, _, tb, rb, _ = _streams(truth)
+    out = align_streams(ta, ra.as_quat(scalar_first=True), "scalar=first", tb, rb.as_quat(), "scalar=last")
+    assert "correlation_curve" not in out.as_dict()
+    data = json.loads(json.dumps(out.as_dict(curves=True)))
+    curve = data["correlation_curve"]
+    assert np.allclose(curve["offsets_seconds"], out.correlation.offsets)
+    finite = np.isfinite(out.correlation.correlation)
+    assert [v is None for v in curve["correlation"]] == (~finite).tolist()
+    assert np.allclose(np.array(curve["correlation"], dtype=float)[finite], out.correlation.correlation[finite])
+    sp = data["speed_curves"]
+    assert sp["unit"] == "radians per second" and sp["offset_seconds"] == out.offset
+    assert np.allclose(sp["speed_b"], out.speeds.speed_b) and np.allclose(sp["times_b_seconds"], out.speeds.times_b)
+
+
+# --------------------------------------------------------------------------------------
+# labels: messages in the caller's words
+# --------------------------------------------------------------------------------------
+
+def test_labels_name_the_callers_inputs_in_messages_and_notes():
+    ta, qa, tb, qb = _simple()
+    shuffled = tb.copy()
+    shuffled[10], shuffled[11] = shuffled[11], shuffled[10]
+    with pytest.raises(StreamTimesError, match=r"^stream B's time column: not strictly increasing at sample 11"):
+        align_streams(ta, qa, "scalar=first", shuffled, qb, "scalar=last",
+                      labels={"times_b": "stream B's time column"})
+    with pytest.raises(PoseInputError, match=r"^the reading box of B: .*scalar"):
+        align_streams(ta, qa, "scalar=first", tb, qb, "scalar=sideways", labels={"reading_b": "the reading box of B"})
+    with pytest.raises(NoOverlapError, match="raise the largest offset box"):
+        align_streams(ta, qa, "scalar=first", tb + 1000.0, qb, "scalar=last", max_offset=5.0,
+                      labels={"max_offset": "the largest offset box"})
+    out = align_streams(ta, qa, "scalar=first", tb, qb, "scalar=last", labels={"nominal_mount": "the mount box"})
+    assert any("give the mount box" in n for n in out.notes) and not any("nominal_mount" in n for n in out.notes)
+    for bad in ({"values_c": "x"}, {"values_a": " "}, ["values_a"]):
+        with pytest.raises(PoseInputError, match="labels"):
+            align_streams(ta, qa, "scalar=first", tb, qb, "scalar=last", labels=bad)
+
+
+# --------------------------------------------------------------------------------------
+# one stream from a log file
+# --------------------------------------------------------------------------------------
+
+def _write_log(path, header, rows):
+    path.write_text(",".join(header) + "\n" + "\n".join(",".join(repr(float(v)) if not isinstance(v, str) else v
+                                                                  for v in row) for row in rows) + "\n")
+    return path
+
+
+def test_read_stream_log_reads_named_numbered_and_inferred_columns(tmp_path):
+    from posekit.analysis.alignment import read_stream_log
+
+    truth = _truth(81)
+    ta, ra, _, _, _, _ = _streams(truth)
+    q = ra.as_quat()                                                             # scipy: x, y, z, w
+    rows = np.column_stack([q, ta])
+    path = _write_log(tmp_path / "a.csv", ["qx", "qy", "qz", "qw", "time"], rows)
+    log = read_stream_log(path)
+    assert log.time_column == "time" and log.value_columns == ("qx", "qy", "qz", "qw")
+    assert log.inferred == ("time", "values")
+    assert np.array_equal(log.times, ta) and np.array_equal(log.values, q)
+    named = read_stream_log(path, "time", "qw, qx, qy, qz")
+    assert np.array_equal(named.values, q[:, [3, 0, 1, 2]]) and named.inferred == ()
+    numbered = read_stream_log(path, 4, [3, 0, 1, 2])
+    assert np.array_equal(numbered.values, named.values)
+    assert np.array_equal(read_stream_log(path, "4", "3,0,1,2").values, named.values)
+    assert read_stream_log(path, " Time ", "QW,qx,qy,qz").time_column == "time"     # names matched loosely
+
+
+def test_read_stream_log_refuses_what_it_cannot_read_naming_the_input(tmp_path):
+    from posekit.analysis.alignment import StreamLogError, read_stream_log
+
+    labels = {"source": "stream A's file", "time_column": "stream A's time box",
+              "value_columns": "stream A's columns box"}
+    good = [[0.1 * k, 1, 0, 0, 0] for k in range(30)]
+    path = _write_log(tmp_path / "a.csv", ["t", "qw", "qx", "qy", "qz"], good)
+    with pytest.raises(StreamLogError, match=r"^stream A's columns box: no column 'qq' in the header"):
+        read_stream_log(path, None, "qw, qq", labels=labels)
+    with pytest.raises(StreamLogError, match=r"^stream A's columns box: column number 9 does not exist"):
+        read_stream_log(path, None, "9", labels=labels)
+    with pytest.raises(StreamLogError, match="with an empty entry"):
+        read_stream_log(path, None, "qw,,qx", labels=labels)
+    with pytest.raises(StreamLogError, match="is the time column too"):
+        read_stream_log(path, "t", "t, qx", labels=labels)
+    with pytest.raises(StreamLogError, match="listed 2 times"):
+        read_stream_log(path, "t", "qx, qx", labels=labels)
+    bad_rows = [row[:] for row in good]
+    bad_rows[4][2] = "oops"
+    bad_rows[7][3] = "nan"
+    bad = _write_log(tmp_path / "b.csv", ["t", "qw", "qx", "qy", "qz"], bad_rows)
+    with pytest.raises(StreamLogError, match=r"^stream A's file: 2 row\(s\) .*row 4 \(line 6\).*oops.*row 7 "
+                                              r"\(line 9\): NaN or infinity.*none is skipped"):
+        read_stream_log(bad, labels=labels)
+    no_time = _write_log(tmp_path / "c.csv", ["when", "qw", "qx", "qy", "qz"], good)
+    with pytest.raises(StreamLogError, match=r"^stream A's time box: no column is named like a time"):
+        read_stream_log(no_time, labels=labels)
+    twice = _write_log(tmp_path / "d.csv", ["t", "qw", "qw", "qy", "qz"], good)
+    with pytest.raises(StreamLogError, match="names 2 columns 'qw'"):
+        read_stream_log(twice, "t", "qw", labels=labels)
+    headless = tmp_path / "e.csv"
+    headless.write_text("\n".join(",".join(map(str, r)) for r in good) + "\n")
+    with pytest.raises(StreamLogError, match="no header line"):
+        read_stream_log(headless, labels=labels)
+    assert read_stream_log(headless, 0).value_columns == ("column 1", "column 2", "column 3", "column 4")
+    with pytest.raises(PoseInputError, match="missing.csv"):
+        read_stream_log(tmp_path / "missing.csv", labels=labels)
+    assert issubclass(StreamLogError, PoseInputError)

@@ -37,6 +37,8 @@ residuals are per pair of consecutive key samples, in degrees and metres (A's le
 from __future__ import annotations
 
 import math
+import re
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -48,11 +50,14 @@ from ..explain import (COUNTS, EQUIVALENT, PRIOR_WEIGHT, PROPER_REMAPS, REMAPS, 
                        describe_remap, fix_code, read_numbers, readings_of, remap_cost, sentence, stated_reading,
                        write_numbers)
 from ..explain.scorer import det3
+from ..io.limits import LOG_LIMIT
+from ..io.logs import read_log
 
 __all__ = ["AlignmentError", "StreamTimesError", "NoOverlapError", "DegenerateMotionError", "ReferenceStreamError",
-           "OFFSET_METHOD", "TimeOffset", "SpeedMatch", "PairResiduals", "MountExplanation", "StreamAlignment",
-           "relative_angles", "angular_speeds", "park_martin_rotation", "mount_translation",
-           "solve_mount", "align_streams"]
+           "OFFSET_METHOD", "LABEL_KEYS", "TimeOffset", "CorrelationCurve", "SpeedCurves", "SpeedMatch",
+           "PairResiduals", "MountExplanation", "StreamAlignment", "relative_angles", "angular_speeds",
+           "park_martin_rotation", "mount_translation", "solve_mount", "align_streams",
+           "StreamLogError", "StreamLog", "LOG_LABEL_KEYS", "column_entries", "read_stream_log"]
 
 #: Fewest samples a stream may have.
 MIN_SAMPLES = 20
@@ -73,6 +78,8 @@ PROBE_TURN = math.radians(30.0)
 
 #: Contiguous blocks of the overlap for the delete-a-block jackknife of the offset.
 JACKKNIFE_BLOCKS = 8
+#: Lags on each side of the peak kept in :attr:`CorrelationCurve.peak_offsets` (on the grid the peak was refined on).
+PEAK_LAGS = 6
 
 OFFSET_METHOD = (
     "normalised cross-correlation (Pearson's coefficient per lag, over the overlap only) of A's and B's angular "
@@ -108,6 +115,10 @@ class DegenerateMotionError(AlignmentError):
 
 class ReferenceStreamError(AlignmentError):
     """Stream A (the reference) does not read as rotations under its stated reading."""
+
+
+class StreamLogError(AlignmentError):
+    """A log cannot give one stream as mapped: a column missing or named twice, a row that is not numbers."""
 
 
 # --------------------------------------------------------------------------------------
@@ -401,6 +412,7 @@ class _Grid:
     window: float
     max_offset: float | None
     min_overlap: float
+    words: dict
 
 
 def _grid_of(mid, speed, start, h, span):
@@ -415,8 +427,9 @@ def _lag_ok(lags, n, base, h, grid: _Grid, n_min):
     return ok
 
 
-def _estimate_offset(grid: _Grid, b_mid, b_speed, *, refine: bool = True) -> TimeOffset:
-    """Offset of B's speeds ``(mid-times, speeds)`` against A's on ``grid`` (:data:`OFFSET_METHOD`)."""
+def _estimate_offset(grid: _Grid, b_mid, b_speed, *, refine: bool = True, curve: bool = False):
+    """Offset of B's speeds ``(mid-times, speeds)`` against A's on ``grid`` (:data:`OFFSET_METHOD`) -> TimeOffset,
+    or ``(TimeOffset, CorrelationCurve)`` with ``curve``: the correlation per lag as the search saw it."""
     start_b = float(b_mid[0])
     b = _grid_of(b_mid, b_speed, start_b, grid.h, float(b_mid[-1] - b_mid[0]))
     base = grid.start_a - start_b                    # offset at lag 0: a[n] at start_a + n h, b[m] at start_b + m h
@@ -429,9 +442,10 @@ def _estimate_offset(grid: _Grid, b_mid, b_speed, *, refine: bool = True) -> Tim
     if not np.any(ok):
         raise NoOverlapError(
             f"stream B: no time offset leaves an overlap of at least {grid.min_overlap:g} of the shorter stream"
-            + ("" if grid.max_offset is None else f" within max_offset={grid.max_offset:g} s")
+            + ("" if grid.max_offset is None else f" within {grid.words['max_offset']} = {grid.max_offset:g} s")
             + f" (A's speeds span {len(grid.a) * grid.h:.4g} s, B's {len(b) * grid.h:.4g} s); accepted: streams "
-              "that record the same motion over a common stretch (lower min_overlap or raise max_offset)")
+              f"that record the same motion over a common stretch (lower {grid.words['min_overlap']} or raise "
+              f"{grid.words['max_offset']})")
     rr = np.where(ok, r, -np.inf)
     i = int(np.argmax(rr))
     # the peak's lobe: downhill on both sides; the best correlation beyond it is the second peak
@@ -441,6 +455,7 @@ def _estimate_offset(grid: _Grid, b_mid, b_speed, *, refine: bool = True) -> Tim
     hi = i
     while hi < len(rr) - 1 and ok[hi + 1] and rr[hi + 1] < rr[hi]:
         hi += 1
+    coarse_curve = (base + grid.h * d * lags, np.where(ok, r, np.nan), grid.h * d) if curve else None
     outside = np.concatenate([rr[:lo], rr[hi + 1:]])
     outside = outside[np.isfinite(outside)]
     second = float(outside.max()) if outside.size else float("nan")
@@ -480,12 +495,86 @@ def _estimate_offset(grid: _Grid, b_mid, b_speed, *, refine: bool = True) -> Tim
         unc = float("inf")                           # no peak to refine: the lag is a grid edge
     found = TimeOffset(float(offset), float(unc), rho, second, float(mism[i]), float(h), overlap, samples,
                        bool(refine or d == 1))
-    return found
+    if not curve:
+        return found
+    near = slice(max(0, i - PEAK_LAGS), i + PEAK_LAGS + 1)
+    return found, CorrelationCurve(*coarse_curve, base + h * np.asarray(lags[near], dtype=float),
+                                   np.where(ok[near], r[near], np.nan), float(h), float(offset))
 
 
 # --------------------------------------------------------------------------------------
 # results
 # --------------------------------------------------------------------------------------
+
+@dataclass(frozen=True, eq=False)
+class CorrelationCurve:
+    """Pearson's correlation of A's and B's angular speeds per trial offset (step 1, one reading of B).
+
+    ``offsets (K,)``: seconds, the offset each lag stands for (add to B's stamps, as
+    :attr:`TimeOffset.offset`), every lag searched, ``step`` seconds apart (the coarse grid
+    when the streams are long); ``correlation (K,)``: the coefficient at each, NaN where the
+    lag was not searched (overlap below ``min_overlap``, beyond ``max_offset``, or a constant
+    stretch).  ``peak_offsets (J,)`` / ``peak_correlation (J,)``: the lags next to the peak
+    on the grid the peak was refined on (``peak_step`` seconds apart, the full-resolution
+    grid when the search was refined), at most :data:`PEAK_LAGS` on each side; ``offset``:
+    the sub-sample peak reported, within half a ``peak_step`` of the best of those lags.
+    """
+
+    offsets: np.ndarray
+    correlation: np.ndarray
+    step: float
+    peak_offsets: np.ndarray
+    peak_correlation: np.ndarray
+    peak_step: float
+    offset: float
+
+    @property
+    def best_searched(self) -> float:
+        """The offset (seconds) of the highest correlation among :attr:`offsets` (NaN if none was searched)."""
+        if not np.any(np.isfinite(self.correlation)):
+            return float("nan")
+        return float(self.offsets[int(np.nanargmax(self.correlation))])
+
+    def as_dict(self) -> dict:
+        return {"offsets_seconds": self.offsets.tolist(), "correlation": _plain_list(self.correlation),
+                "step_seconds": self.step, "peak_offsets_seconds": self.peak_offsets.tolist(),
+                "peak_correlation": _plain_list(self.peak_correlation), "peak_step_seconds": self.peak_step,
+                "offset_seconds": self.offset}
+
+
+@dataclass(frozen=True, eq=False)
+class SpeedCurves:
+    """Both streams' angular speeds as step 1 compared them, B's under the diagnosed reading.
+
+    ``times_a (Na,)``: mid-times (seconds, A's clock) of A's speeds ``speed_a (Na,)``;
+    ``times_b (Nb,)``: mid-times on *B's own clock* of B's speeds ``speed_b (Nb,)``, read
+    under ``reading`` (the diagnosed reading of B; speeds do not depend on its action or
+    direction); speeds in radians per second (:func:`angular_speeds`); ``offset``: seconds
+    added to B's stamps, so :attr:`times_b_aligned` puts B's speeds on A's clock.
+    """
+
+    times_a: np.ndarray
+    speed_a: np.ndarray
+    times_b: np.ndarray
+    speed_b: np.ndarray
+    offset: float
+    reading: Reading
+
+    @property
+    def times_b_aligned(self) -> np.ndarray:
+        """B's speed mid-times on A's clock: ``times_b + offset``."""
+        return self.times_b + self.offset
+
+    def as_dict(self) -> dict:
+        return {"unit": "radians per second", "times_a_seconds": self.times_a.tolist(),
+                "speed_a": self.speed_a.tolist(), "times_b_seconds": self.times_b.tolist(),
+                "speed_b": self.speed_b.tolist(), "offset_seconds": self.offset, "reading_b": self.reading.text()}
+
+
+def _plain_list(values) -> list:
+    """Floats for JSON: NaN as None."""
+    return [None if not np.isfinite(v) else float(v) for v in np.asarray(values, dtype=float)]
+
 
 @dataclass(frozen=True, eq=False)
 class SpeedMatch:
@@ -616,7 +705,9 @@ class StreamAlignment:
     ``explanations`` ranked (:class:`MountExplanation`, best first); ``speed_matches`` step 1's
     ranking (:class:`SpeedMatch`); ``slip`` / ``sentence`` / ``verdict``; ``explained``: the
     best explanation's rms residuals are within the tolerances; ``motion``: how much and
-    about which axes A turned over the pairs; ``notes``.
+    about which axes A turned over the pairs; ``notes``.  ``correlation``
+    (:class:`CorrelationCurve`) and ``speeds`` (:class:`SpeedCurves`): the speed correlation
+    per trial offset and both speed curves, of the diagnosed reading of B, for drawing.
     """
 
     offset: float
@@ -635,6 +726,8 @@ class StreamAlignment:
     stated_b: Reading
     motion: dict
     notes: tuple[str, ...] = ()
+    correlation: CorrelationCurve | None = None
+    speeds: SpeedCurves | None = None
 
     @property
     def best(self) -> MountExplanation:
@@ -686,8 +779,15 @@ class StreamAlignment:
         lines.append("fix for B's numbers (logged_numbers: B's (N, n) array):\n" + self.best.code)
         return "\n".join(lines)
 
-    def as_dict(self) -> dict:
-        """The result as plain data (JSON-ready)."""
+    def as_dict(self, curves: bool = False) -> dict:
+        """The result as plain data (JSON-ready); ``curves`` adds ``correlation_curve`` and ``speed_curves``."""
+        out = self._plain()
+        if curves:
+            out["correlation_curve"] = None if self.correlation is None else self.correlation.as_dict()
+            out["speed_curves"] = None if self.speeds is None else self.speeds.as_dict()
+        return out
+
+    def _plain(self) -> dict:
         return {"verdict": self.verdict, "explained": self.explained, "sentence": self.sentence,
                 "offset_seconds": self.offset, "offset_uncertainty_seconds": self.offset_uncertainty,
                 "offset_method": OFFSET_METHOD, "time_offset": self.time_offset.as_dict(),
@@ -701,6 +801,34 @@ class StreamAlignment:
 # --------------------------------------------------------------------------------------
 # inputs
 # --------------------------------------------------------------------------------------
+
+#: The inputs messages name; :func:`align_streams` ``labels`` may give each its caller's words.
+LABEL_KEYS = ("times_a", "values_a", "reading_a", "times_b", "values_b", "reading_b", "nominal_mount", "max_offset",
+              "min_overlap")
+
+
+def _labels(labels) -> dict:
+    words = {k: k for k in LABEL_KEYS}
+    if labels is None:
+        return words
+    if not isinstance(labels, Mapping):
+        raise AlignmentError(f"labels: got {summarise(labels, 40)}; accepted: a mapping from any of "
+                             f"{', '.join(LABEL_KEYS)} to the words messages should use")
+    for k, v in labels.items():
+        if k not in words or not isinstance(v, str) or not v.strip():
+            raise AlignmentError(f"labels: got {summarise(k, 30)}: {summarise(v, 30)}; accepted: keys "
+                                 f"{', '.join(LABEL_KEYS)}, each with non-blank text")
+        words[k] = v
+    return words
+
+
+def _retyped(exc: PoseInputError, message: str) -> PoseInputError:
+    """The same kind of error with ``message`` (a plain AlignmentError when that type needs more arguments)."""
+    try:
+        return type(exc)(message)
+    except TypeError:
+        return AlignmentError(message)
+
 
 def _checked_times(times, name: str, n_values: int) -> np.ndarray:
     t = as_numbers(times, name)
@@ -719,7 +847,7 @@ def _checked_times(times, name: str, n_values: int) -> np.ndarray:
     return t
 
 
-def _checked_stream(values, name: str, reading, kind) -> tuple[np.ndarray, Reading]:
+def _checked_stream(values, name: str, reading, kind, reading_name: str) -> tuple[np.ndarray, Reading]:
     arr = as_numbers(values, name)
     if arr.ndim != 2:
         raise WrongShapeError(f"{name}: got shape {arr.shape}; expected (N, n): one row of pose numbers per "
@@ -731,14 +859,17 @@ def _checked_stream(values, name: str, reading, kind) -> tuple[np.ndarray, Readi
     if wanted is not None and arr.shape[1] not in wanted and not isinstance(reading, Reading):
         raise WrongShapeError(f"{name}: rows of {arr.shape[1]} numbers, but a {kind} has "
                               f"{' or '.join(map(str, wanted))}; expected rows that fit the stated kind")
-    stated = stated_reading(arr.shape[1], kind, reading)
+    try:
+        stated = stated_reading(arr.shape[1], kind, reading)
+    except PoseInputError as exc:
+        raise _retyped(exc, f"{reading_name}: {exc}") from None
     if stated.count != arr.shape[1]:
         raise WrongShapeError(f"{name}: rows of {arr.shape[1]} numbers, but the reading {stated.describe()!r} "
                               f"has {stated.count}; expected rows that fit the stated reading")
     return arr, stated
 
 
-def _read_reference(stated: Reading, values: np.ndarray):
+def _read_reference(stated: Reading, values: np.ndarray, name: str = "values_a"):
     r, t = read_numbers(stated, values)
     err = orthonormality_error(r)
     det = det3(r)
@@ -747,7 +878,7 @@ def _read_reference(stated: Reading, values: np.ndarray):
         k = int(bad[0])
         why = "a reflection (det -1)" if det[k] <= 0 else f"off orthonormal by {float(err[k]):.3g}"
         raise ReferenceStreamError(
-            f"values_a: row {k} ({summarise(values[k])}) read as {stated.describe()} is {why}; stream A is the "
+            f"{name}: row {k} ({summarise(values[k])}) read as {stated.describe()} is {why}; stream A is the "
             f"reference and must read as rotations (orthonormality error <= {READ_TOLERANCE:g}, det +1): state "
             "A's reading, or swap the streams so the trusted one is A")
     return r, t
@@ -761,16 +892,16 @@ def _checked_angle(value, name: str, largest: float = math.pi) -> float:
     return v
 
 
-def _nominal(value):
+def _nominal(value, name: str = "nominal_mount"):
     if value is None:
         return None
-    arr = as_numbers(value, "nominal_mount")
+    arr = as_numbers(value, name)
     if arr.shape == (4, 4):
         arr = arr[:3, :3]
     if arr.shape != (3, 3):
-        raise WrongShapeError(f"nominal_mount: got shape {arr.shape}; expected the expected mount as a canonical "
+        raise WrongShapeError(f"{name}: got shape {arr.shape}; expected the expected mount as a canonical "
                               "(3, 3) rotation or (4, 4) transform (B's frame in A's body frame)")
-    return checked_matrix(arr, "nominal_mount")
+    return checked_matrix(arr, name)
 
 
 # --------------------------------------------------------------------------------------
@@ -798,6 +929,8 @@ class _Class:
     pairs: dict | None = None
     rank: int = 0
     key: Reading | None = None
+    curve: CorrelationCurve | None = None
+    thinned: bool = False
 
 
 def _speeds_of(key: Reading, times, values, stride: int, every: int = 1):
@@ -1128,7 +1261,7 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
                   pair_angle: float = DEFAULT_PAIR_ANGLE, max_pairs: int = 400,
                   min_rotation: float = math.radians(30.0), min_axis_spread: float = math.radians(15.0),
                   rotation_tolerance: float = math.radians(0.5), translation_tolerance: float = 0.005,
-                  limit: int = 5) -> StreamAlignment:
+                  limit: int = 5, labels=None) -> StreamAlignment:
     """Time offset, rigid mount and the convention slip of stream B against reference stream A.
 
     ``times_a (Na,)``, ``times_b (Nb,)``: strictly increasing seconds, each on its own clock.
@@ -1148,6 +1281,8 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
     is compared with it (``nominal_tolerance`` radians) and a mount that is the nominal one times
     an axis permutation is named as a remap of B's axes.  ``max_offset`` (seconds) bounds
     ``|offset|``; lags whose overlap is below ``min_overlap`` of the shorter stream are skipped.
+    ``labels``: how messages and notes name the inputs (a mapping from any of :data:`LABEL_KEYS`
+    to words, e.g. a widget's boxes or a command's flags; the others keep their parameter names).
 
     Raises :class:`DegenerateMotionError` when A turned less than ``min_rotation`` radians over
     the pairs or about one axis only (spread below ``min_axis_spread``), saying which motion
@@ -1190,13 +1325,14 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
                              "stream")
     if max_offset is not None:
         max_offset = checked_tolerance(max_offset, "max_offset", " seconds")
-    nominal = _nominal(nominal_mount)
+    words = _labels(labels)
+    nominal = _nominal(nominal_mount, words["nominal_mount"])
 
-    va, stated_a = _checked_stream(values_a, "values_a", reading_a, kind_a)
-    vb, stated_b = _checked_stream(values_b, "values_b", reading_b, kind_b)
-    ta = _checked_times(times_a, "times_a", len(va))
-    tb = _checked_times(times_b, "times_b", len(vb))
-    r_a, t_a = _read_reference(stated_a, va)
+    va, stated_a = _checked_stream(values_a, words["values_a"], reading_a, kind_a, words["reading_a"])
+    vb, stated_b = _checked_stream(values_b, words["values_b"], reading_b, kind_b, words["reading_b"])
+    ta = _checked_times(times_a, words["times_a"], len(va))
+    tb = _checked_times(times_b, words["times_b"], len(vb))
+    r_a, t_a = _read_reference(stated_a, va, words["values_a"])
     notes: list[str] = []
 
     # --- step 1: speeds, one grid, the offset of every reading of B ------------------------------
@@ -1218,7 +1354,7 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
     a_fine = _grid_of(mid_a, speed_a, float(mid_a[0]), h, span_a)
     block = max(1, int(math.ceil(max(len(a_fine), span_b / h + 1) / COARSE_SAMPLES)))
     grid = _Grid(a_fine, float(mid_a[0]), h, block, _block_mean(a_fine, block) if block > 1 else a_fine, window,
-                 max_offset, min_overlap)
+                 max_offset, min_overlap, words)
 
     # ranking on the coarse grid needs about one speed per coarse cell: read only the rows those need
     every = max(1, int(block * h / dt_b))
@@ -1236,9 +1372,9 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
         if rank <= REFINED_CLASSES or near:
             if every > 1:
                 c.mid, c.speed = _speeds_of(c.key, tb, vb, stride_b)
-            c.found = _estimate_offset(grid, c.mid, c.speed, refine=True)
+            c.found, c.curve = _estimate_offset(grid, c.mid, c.speed, refine=True, curve=True)
         else:
-            c.found = coarse[i]
+            c.found, c.thinned = coarse[i], every > 1
     ranked = [classes[i] for i in order]
     speed_matches = tuple(
         SpeedMatch(c.rank, c.readings[0], tuple(c.readings), c.found, Slip(stated_b, c.readings[0]),
@@ -1269,8 +1405,8 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
     elif stated_b.has_translation and t_a is None:
         notes.append("stream A carries no positions: the mount's rotation only (B's positions are not used)")
     if nominal is None:
-        notes.append("an axis remap of B's own frame looks like a different mount to relative motions: pass "
-                     "nominal_mount (the mount you expect) to test for one")
+        notes.append("an axis remap of B's own frame looks like a different mount to relative motions: give "
+                     f"{words['nominal_mount']} (the mount you expect) to test for one")
 
     # --- step 3: one constant mount per reading, relation and unit; rank; group ---------------
     fits = _fits(stated_b, ranked, vb, compare_t, tol_r, tol_t, nominal, tol_n)
@@ -1315,7 +1451,7 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
     if best.mount_only and nominal is None:
         notes.append(f"{len(best.mount_only)} other reading(s) fit these data exactly as well with another mount "
                      "(listed under the first explanation): no motion separates them, only the mount does -- "
-                     "compare the mounts with the drawing, or pass nominal_mount")
+                     f"compare the mounts with the drawing, or give {words['nominal_mount']}")
     if len(explanations) > 1 and explanations[1].near_tie and not best.near_tie:
         explanations[0] = _replace_near(best)
         best = explanations[0]
@@ -1334,9 +1470,17 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
                      "speed match")
     motion = {"total_rotation_degrees": math.degrees(total), "axis_spread_degrees": math.degrees(spread),
               "dominant_axis": [float(v) for v in vt[0]], "pairs": int(len(lead_fit.rres))}
+    # --- the diagnosed reading's speeds and correlation curve, for drawing ---------------------
+    chosen = lead_fit.cls
+    if chosen.curve is None:                  # the speeds its offset came from, the search as it ran
+        _, chosen.curve = _estimate_offset(grid, chosen.mid, chosen.speed, refine=chosen.found.refined, curve=True)
+    if chosen.thinned:                        # ranked on thinned rows only: every row's speed for drawing
+        chosen.mid, chosen.speed = _speeds_of(chosen.key, tb, vb, stride_b)
+    speeds = SpeedCurves(mid_a, speed_a, chosen.mid, chosen.speed, chosen.found.offset, lead_fit.slip.true)
     return StreamAlignment(best.time_offset.offset, best.time_offset.uncertainty, best.time_offset, best.mount,
                            best.mount_numbers, best.residuals, tuple(explanations), speed_matches, best.slip,
-                           best.sentence, verdict, bool(explained), stated_a, stated_b, motion, tuple(notes))
+                           best.sentence, verdict, bool(explained), stated_a, stated_b, motion, tuple(notes),
+                           chosen.curve, speeds)
 
 
 def _reading_sentence(slip: Slip) -> str:
@@ -1375,3 +1519,180 @@ def _explanation(rank, fit: _Fit, stated_b, pairs, same, mount_only, separable, 
 def _replace_near(e: MountExplanation) -> MountExplanation:
     from dataclasses import replace
     return replace(e, near_tie=True)
+
+
+# --------------------------------------------------------------------------------------
+# one stream from a log file
+# --------------------------------------------------------------------------------------
+
+#: The inputs :func:`read_stream_log` messages name; ``labels`` may give each its caller's words.
+LOG_LABEL_KEYS = ("source", "time_column", "value_columns")
+#: Header names read as the time column when none is named (lower case, spaces and dots as ``_``).
+TIME_NAMES = ("time", "t", "timestamp", "stamp", "times", "timestamps", "time_s", "t_s", "seconds", "sec", "secs",
+              "time_sec", "timestamp_s", "stamp_s")
+#: Rejected rows named in a message (the count says how many more).
+ROWS_NAMED = 3
+
+
+@dataclass(frozen=True, eq=False)
+class StreamLog:
+    """One stream read from a log: ``times (N,)`` seconds, ``values (N, n)`` in the columns' order.
+
+    ``source``: the log as messages name it; ``time_column`` and ``value_columns``: the header
+    names read (``"column k"`` without a header); ``inferred``: which of the two were chosen by
+    posekit (``"time"``, ``"values"``) rather than named by the caller.
+    """
+
+    source: str
+    times: np.ndarray
+    values: np.ndarray
+    time_column: str
+    value_columns: tuple[str, ...]
+    inferred: tuple[str, ...] = ()
+
+    def words(self) -> str:
+        """One line: which columns were read as what."""
+        time_how = " (found by its name)" if "time" in self.inferred else ""
+        values_how = " (every other column, in file order)" if "values" in self.inferred else ""
+        return (f"{len(self.times)} rows; time column {self.time_column}{time_how}; {len(self.value_columns)} value "
+                f"columns {', '.join(self.value_columns)}{values_how}")
+
+
+def _log_words(labels) -> dict:
+    words = {"source": "source", "time_column": "time_column", "value_columns": "value_columns"}
+    if labels is None:
+        return words
+    if not isinstance(labels, Mapping):
+        raise StreamLogError(f"labels: got {summarise(labels, 40)}; accepted: a mapping from any of "
+                             f"{', '.join(LOG_LABEL_KEYS)} to the words messages should use")
+    for k, v in labels.items():
+        if k not in words or not isinstance(v, str) or not v.strip():
+            raise StreamLogError(f"labels: got {summarise(k, 30)}: {summarise(v, 30)}; accepted: keys "
+                                 f"{', '.join(LOG_LABEL_KEYS)}, each with non-blank text")
+        words[k] = v
+    return words
+
+
+def _plain_name(name: str) -> str:
+    return re.sub(r"[\s.\-/:\[\]()]+", "_", name.strip().lower()).strip("_")
+
+
+def column_entries(value, what: str = "value_columns") -> list:
+    """Column names or 0-based numbers: a list as given, or text split at its commas (each entry stripped);
+    an empty entry raises :class:`StreamLogError` naming ``what``.
+
+    >>> column_entries(" qw, qx,qy , qz")
+    ['qw', 'qx', 'qy', 'qz']
+    """
+    if isinstance(value, str):
+        parts = [p.strip() for p in value.split(",")]
+        if any(not p for p in parts):
+            raise StreamLogError(f"{what}: got {summarise(value, 60)}, with an empty entry; accepted: column names or "
+                                 "0-based column numbers separated by commas, e.g. qw, qx, qy, qz")
+        return parts
+    if isinstance(value, (list, tuple)):
+        return list(value)
+    raise StreamLogError(f"{what}: got {summarise(value, 40)}; accepted: column names or 0-based column numbers, as "
+                         "a list or as text separated by commas")
+
+
+def _column_index(entry, names, header: bool, what: str) -> int:
+    if isinstance(entry, str) and header and entry in names:
+        where = [i for i, n in enumerate(names) if n == entry]
+        if len(where) > 1:
+            raise StreamLogError(f"{what}: the header names {len(where)} columns {summarise(entry, 30)} (columns "
+                                 f"{', '.join(map(str, where))}), so which one to read is unclear; accepted: a "
+                                 "0-based column number instead, or rename the extra columns")
+        return where[0]
+    if isinstance(entry, str) and entry.isascii() and entry.isdigit():
+        entry = int(entry)
+    if isinstance(entry, (int, np.integer)) and not isinstance(entry, bool):
+        if not 0 <= entry < len(names):
+            raise StreamLogError(f"{what}: column number {int(entry)} does not exist; the log has {len(names)} "
+                                 f"columns, numbered 0 to {len(names) - 1}")
+        return int(entry)
+    if isinstance(entry, str):
+        if not header:
+            raise StreamLogError(f"{what}: column name {summarise(entry, 40)} given, but the log has no header "
+                                 "line; accepted: 0-based column numbers")
+        close = [i for i, n in enumerate(names) if _plain_name(n) == _plain_name(entry)]
+        if len(close) == 1:
+            return close[0]
+        shown = ", ".join(summarise(n, 24) for n in names[:12]) + (", ..." if len(names) > 12 else "")
+        raise StreamLogError(f"{what}: no column {summarise(entry, 40)} in the header; accepted: one of {shown}, or "
+                             "a 0-based column number")
+    raise StreamLogError(f"{what}: got {summarise(entry, 40)}; accepted: a column name or a 0-based column number")
+
+
+def read_stream_log(source, time_column=None, value_columns=None, *, labels=None,
+                    limit: int = LOG_LIMIT) -> StreamLog:
+    """One stream for :func:`align_streams` from a log (read by :func:`posekit.io.logs.read_log`).
+
+    ``time_column``: a header name or 0-based column number, or None for the column named
+    like a time (:data:`TIME_NAMES`).  ``value_columns``: names or numbers, as a list or as
+    text separated by commas (``"qw, qx, qy, qz"``), in the order the reading takes them;
+    None or blank text: every other column in file order.  Times are seconds.  Every row
+    must hold a finite number in each column read: rows that do not are named (row, line,
+    reason) in a :class:`StreamLogError`, never dropped.  ``labels``: how messages name
+    ``source``, ``time_column`` and ``value_columns`` (:data:`LOG_LABEL_KEYS`).
+
+    >>> import io
+    >>> log = read_stream_log(io.StringIO("t,qw,qx,qy,qz\\n0,1,0,0,0\\n0.1,1,0,0,0\\n"))
+    >>> log.words()
+    '2 rows; time column t (found by its name); 4 value columns qw, qx, qy, qz (every other column, in file order)'
+    """
+    words = _log_words(labels)
+    table = read_log(source, limit=limit)
+    names, header = list(table.names), bool(table.header)
+    inferred = []
+    if time_column is None or (isinstance(time_column, str) and not time_column.strip()):
+        if not header:
+            raise StreamLogError(f"{words['time_column']}: the log has no header line, so no column can be found by "
+                                 "its name; accepted: the time column's 0-based number")
+        found = [i for i, n in enumerate(names) if _plain_name(n) in TIME_NAMES]
+        if len(found) != 1:
+            what = "no column is" if not found else f"{len(found)} columns are"
+            shown = ", ".join(summarise(n, 24) for n in names[:12]) + (", ..." if len(names) > 12 else "")
+            raise StreamLogError(f"{words['time_column']}: {what} named like a time ({', '.join(TIME_NAMES[:4])}, "
+                                 f"...) among {shown}; accepted: the time column's name or 0-based number")
+        ti = found[0]
+        inferred.append("time")
+    else:
+        entries = column_entries(time_column, words["time_column"]) if isinstance(time_column, str) \
+            else [time_column]
+        if len(entries) != 1:
+            raise StreamLogError(f"{words['time_column']}: got {len(entries)} columns; accepted: one column name or "
+                                 "0-based column number")
+        ti = _column_index(entries[0], names, header, words["time_column"])
+    if value_columns is None or (isinstance(value_columns, str) and not value_columns.strip()):
+        vi = [i for i in range(len(names)) if i != ti]
+        inferred.append("values")
+    else:
+        vi = [_column_index(e, names, header, words["value_columns"])
+              for e in column_entries(value_columns, words["value_columns"])]
+    if ti in vi:
+        raise StreamLogError(f"{words['value_columns']}: column {summarise(names[ti], 30)} is the time column too; "
+                             "accepted: value columns other than the time column")
+    twice = sorted({i for i in vi if vi.count(i) > 1})
+    if twice:
+        raise StreamLogError(f"{words['value_columns']}: column {summarise(names[twice[0]], 30)} is listed "
+                             f"{vi.count(twice[0])} times; accepted: each column once")
+    if not vi:
+        raise StreamLogError(f"{words['value_columns']}: the log has no column besides the time; accepted: a log "
+                             "with the pose numbers in columns beside the time")
+    arr, rejected = table.numbers([ti] + vi)
+    bad = np.flatnonzero(~np.all(np.isfinite(arr), axis=1))
+    if len(rejected) or bad.size:
+        listed = {r.row: r.words() for r in rejected}
+        lines = getattr(table, "lines", None)
+        for r in bad.tolist():
+            if r not in listed:
+                line = "" if lines is None else f" (line {int(lines[r])})"
+                listed[r] = f"row {r}{line}: NaN or infinity"
+        rows = sorted(listed)
+        more = f", and {len(rows) - ROWS_NAMED} more" if len(rows) > ROWS_NAMED else ""
+        raise StreamLogError(f"{words['source']}: {len(rows)} row(s) cannot be read as numbers in the columns used: "
+                             + "; ".join(listed[r] for r in rows[:ROWS_NAMED]) + f"{more}; accepted: a finite number "
+                             "in every column read on every row (fix or delete those rows: none is skipped)")
+    return StreamLog(str(table.source), np.ascontiguousarray(arr[:, 0]), np.ascontiguousarray(arr[:, 1:]),
+                     names[ti], tuple(names[i] for i in vi), tuple(inferred))

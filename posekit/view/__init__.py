@@ -1,5 +1,6 @@
 """View layer: plotly figures and HTML readouts built by pure functions. No ipywidgets."""
 
+from .alignment import correlation_figure, pair_residual_figure, speed_figure
 from .diagnosis import error_html, parsed_html, residual_figure
 from .frames import PALETTES, body_trace, frame_figure, frame_points, frame_trace, planar_figure
 from .graph import graph_diagram, graph_figure, loop_check_html, readout_html
@@ -12,4 +13,5 @@ __all__ = [
     "error_html", "parsed_html", "residual_figure",
     "FLAG_STYLES", "FlaggedSpan", "flagged_spans", "row_rotation", "trajectory_figure",
     "angle_name", "family_figure", "sweep_figure",
+    "correlation_figure", "pair_residual_figure", "speed_figure",
 ]
