@@ -8,6 +8,10 @@ Verbs::
     posekit check NUMBERS
     posekit tour [--folder DIR] [--print-command]
     posekit notebook NAME [--folder DIR]        # or: posekit notebook --list
+    posekit mount LOG_A LOG_B [--reading-a CONV] [--reading-b CONV] [options]   # two sensors, one rigid body
+    posekit scan LOG [LOG ...] [--convention CONV] [options]   # one log, a folder or a glob: findings per file
+    posekit motion LOG --described TEXT [--reading CONV] [--mount M]   # the log's reading from a known motion
+    posekit motion LOG --rates RATE_LOG [--rate-reading TEXT]          # ... or from a rate log of the same body
 
 Every NUMBERS / TEXT argument is pasted text as :func:`posekit.analysis.parse_numbers`
 reads it, or ``-`` to read standard input.  Convention arguments use posekit's text
@@ -162,6 +166,9 @@ def build_parser() -> argparse.ArgumentParser:
     nb.add_argument("name", nargs="?", help="which notebook: tour, bug-report-template, convention-walkthrough")
     nb.add_argument("--folder", default=".", help="where the fresh copy goes (default: the working folder)")
     nb.add_argument("--list", action="store_true", help="list the notebooks posekit ships")
+    _add_mount_parser(sub)
+    _add_motion_parser(sub)
+    _add_scan_parser(sub)
     return p
 
 
@@ -414,6 +421,358 @@ def _notebook(args) -> tuple[dict, str]:
             f"wrote a fresh copy to {path}\nopen it with: {sys.executable} -m jupyter lab {path}")
 
 
+_MOUNT_KINDS = ("quaternion", "euler", "rotation-vector", "matrix", "transform", "position-quaternion",
+                "position-euler", "position-rotation-vector")
+
+
+def _add_mount_parser(sub) -> None:
+    """The ``mount`` verb: two logs of sensors on one rigid body -> clock offset, mount, the slip in B."""
+    m = sub.add_parser("mount", help="time offset, rigid mount and the slip in stream B from two logs of one rigid "
+                                     "body",
+                       description="Two logs of sensors bolted to one rigid body, each in its own conventions and "
+                                   "clock: the time offset (from angular speeds), the rigid mount (A X = X B) and "
+                                   "the convention slip in how stream B's numbers are read. Stream A is the "
+                                   "reference. Exit status 0: one explanation explains the data within the "
+                                   "tolerances; 1: none does; 2: bad input.")
+    m.add_argument("log_a", metavar="LOG_A", help="log of stream A, the reference (its numbers read as stated)")
+    m.add_argument("log_b", metavar="LOG_B", help="log of stream B, the sensor whose reading is in doubt")
+    for s, big in (("a", "A"), ("b", "B")):
+        m.add_argument(f"--time-{s}", metavar="COLUMN", default=None,
+                       help=f"LOG_{big}'s time column (seconds): a header name or 0-based number (default: the "
+                            "column named time, t, timestamp, ...)")
+        m.add_argument(f"--values-{s}", metavar="COLUMNS", default=None,
+                       help=f"LOG_{big}'s value columns, names or 0-based numbers separated by commas, in the order "
+                            "the reading takes them (default: every other column, in file order)")
+        m.add_argument(f"--kind-{s}", choices=_MOUNT_KINDS, default=None,
+                       help=f"what LOG_{big}'s numbers are (default: decided by their count)")
+        m.add_argument(f"--reading-{s}", metavar="CONV", default=None,
+                       help=f"how you read LOG_{big}'s numbers, posekit convention text, e.g. scalar=last or "
+                            "'sequence=z-y-x unit=degrees' (default: posekit's defaults, none of them stated)")
+    m.add_argument("--nominal-mount", metavar="TEXT", default=None,
+                   help="the mount you expect, B's frame in A's body frame (e.g. from the drawing): numbers under "
+                        "--reading-b (angles without a unit in degrees) or words; lets an axis remap of B be named")
+    m.add_argument("--rotation-tolerance", type=_real("--rotation-tolerance", "degrees", "0.5", 1e-148, 180.0),
+                   default=0.5, help="rotation residual accepted per pair, degrees (0.5)")
+    m.add_argument("--translation-tolerance", type=_real("--translation-tolerance", "metres", "0.005", 1e-150,
+                                                         1e150),
+                   default=0.005, help="position residual accepted per pair, in A's length unit (0.005)")
+    m.add_argument("--max-offset", type=_real("--max-offset", "seconds", "5", 1e-9, 1e12), default=None,
+                   help="largest clock offset searched, seconds (default: any that leaves half the shorter "
+                        "stream overlapping)")
+    m.add_argument("--limit", type=_whole("--limit", "explanations", "5"), default=5,
+                   help="how many explanations to list (5)")
+    m.add_argument("--json", action="store_true", help="print JSON")
+    m.add_argument("--curves", action="store_true",
+                   help="with --json: add both angular speed curves and the speed correlation per trial offset")
+
+
+def _mount(args) -> tuple[dict, str, bool]:
+    from .analysis.alignment import StreamLogError, align_streams, read_stream_log
+    from .analysis.diagnose import expected_pose
+
+    if args.curves and not args.json:
+        raise CliInputError("--curves adds the curves to the JSON output only; accepted: --curves together with "
+                            "--json")
+    if args.log_a == "-" and args.log_b == "-":
+        raise CliInputError("LOG_A and LOG_B both read standard input (-); accepted: - for at most one of them")
+    logs = []
+    for s, big, path in (("a", "A", args.log_a), ("b", "B", args.log_b)):
+        labels = {"source": f"LOG_{big} ({excerpt(path, 80)})", "time_column": f"--time-{s}",
+                  "value_columns": f"--values-{s}"}
+        try:
+            logs.append(read_stream_log(path, getattr(args, f"time_{s}"), getattr(args, f"values_{s}"),
+                                        labels=labels))
+        except StreamLogError:
+            raise
+        except PoseInputError as exc:       # the file itself: say which of the two it is
+            raise CliInputError(f"LOG_{big}: {exc}") from None
+    nominal, nominal_words = None, None
+    if args.nominal_mount is not None:
+        try:
+            pose = expected_pose(args.nominal_mount, None, args.reading_b)
+        except PoseInputError as exc:
+            raise CliInputError(f"--nominal-mount: {exc}") from None
+        if pose.rotation.ndim != 2:
+            raise CliInputError(f"--nominal-mount: holds {pose.rotation.shape[0]} poses; accepted: one mount")
+        nominal = pose.rotation
+        nominal_words = pose.guess.line() if pose.guess is not None else pose.reading
+    labels = {"min_overlap": "the overlap needed (half the shorter stream)", "nominal_mount": "--nominal-mount",
+              "max_offset": "--max-offset"}
+    for s, big in (("a", "A"), ("b", "B")):
+        labels.update({f"times_{s}": f"LOG_{big}'s time column (--time-{s})",
+                       f"values_{s}": f"LOG_{big}'s value columns (--values-{s})", f"reading_{s}": f"--reading-{s}"})
+    a, b = logs
+    result = align_streams(a.times, a.values, args.reading_a, b.times, b.values, args.reading_b, kind_a=args.kind_a,
+                           kind_b=args.kind_b, nominal_mount=nominal, max_offset=args.max_offset,
+                           rotation_tolerance=math.radians(args.rotation_tolerance),
+                           translation_tolerance=args.translation_tolerance, limit=args.limit, labels=labels)
+    data = result.as_dict(curves=args.curves)
+    data["logs"] = {big: {"source": log.source, "rows": int(len(log.times)), "time_column": log.time_column,
+                          "value_columns": list(log.value_columns), "found_by_posekit": list(log.inferred)}
+                    for big, log in (("A", a), ("B", b))}
+    data["nominal_mount"] = None if nominal is None else {"text": args.nominal_mount, "read_as": nominal_words,
+                                                          "rotation": nominal.tolist()}
+    head, _, rest = result.summary().partition("\n")
+    lines = [head, f"LOG_A {excerpt(args.log_a, 80)}: {a.words()}", f"LOG_B {excerpt(args.log_b, 80)}: {b.words()}"]
+    if nominal_words is not None:
+        lines.append(f"nominal mount {nominal_words}")
+    return data, "\n".join(lines + [rest]), result.explained
+
+
+def _add_motion_parser(sub) -> None:
+    """The ``motion`` verb: one orientation log and a described motion (or a rate log) -> the log's reading."""
+    m = sub.add_parser("motion", help="name the reading of a logged orientation stream from a described motion, or "
+                                      "from a rate stream",
+                       description="Name how a logged orientation stream's numbers were written, with no trusted "
+                                   "pose: from what physically happened (--described 'tilted nose up about 90 "
+                                   "degrees, then back', in forward-left-up body axes), or from a rate stream of "
+                                   "the same body (--rates: body or world frame, degrees or radians per second, "
+                                   "sign and axis order of the rates). Exit status 0: a reading explains the log "
+                                   "within the tolerances; 1: none does; 2: bad input.")
+    m.add_argument("log", metavar="LOG", help="the orientation log (CSV: a time column and the numbers), or -")
+    m.add_argument("--described", metavar="TEXT", default=None,
+                   help="what physically happened, e.g. 'turned left in place a full turn' or 'rolled 90 degrees "
+                        "right, then pitched 90 degrees down'")
+    m.add_argument("--rates", metavar="RATE_LOG", default=None,
+                   help="a rate log of the same body (CSV: a time column and three rates) instead of a description")
+    m.add_argument("--time", metavar="COLUMN", default=None,
+                   help="LOG's time column (seconds): a header name or 0-based number (default: the column named "
+                        "time, t, timestamp, ...)")
+    m.add_argument("--values", metavar="COLUMNS", default=None,
+                   help="LOG's value columns, names or 0-based numbers separated by commas (default: every other "
+                        "column, in file order)")
+    m.add_argument("--kind", choices=_MOUNT_KINDS, default=None,
+                   help="what LOG's numbers are (default: decided by their count)")
+    m.add_argument("--reading", metavar="CONV", default=None,
+                   help="how you read LOG's numbers, posekit convention text, e.g. scalar=last or "
+                        "'sequence=z-y-x unit=degrees'")
+    m.add_argument("--mount", metavar="MOUNT", default=None,
+                   help="with --described: the sensor's frame in the body frame, 'identity' or 9 numbers of the "
+                        "rotation matrix row by row (default: unknown, fitted; remaps of the sensor's axes are then "
+                        "not tested)")
+    m.add_argument("--angle-tolerance", type=_real("--angle-tolerance", "degrees", "10", 1e-6, 180.0), default=10.0,
+                   help="with --described: how far a measured angle may be from the described one, degrees (10; "
+                        "'about' angles get a fifth of themselves when that is more)")
+    m.add_argument("--axis-tolerance", type=_real("--axis-tolerance", "degrees", "10", 1e-6, 180.0), default=10.0,
+                   help="with --described: how far a turn's axis may stray, degrees (10)")
+    m.add_argument("--rate-time", metavar="COLUMN", default=None, help="RATE_LOG's time column (as --time)")
+    m.add_argument("--rate-values", metavar="COLUMNS", default=None,
+                   help="RATE_LOG's three rate columns (default: every other column, in file order)")
+    m.add_argument("--rate-reading", metavar="TEXT", default=None,
+                   help="how you read the rates: frame=body|world unit=radians|degrees (per second)")
+    m.add_argument("--offset", type=_real("--offset", "seconds", "0", -1e12, 1e12), default=None,
+                   help="with --rates: seconds to add to the rate stamps (0 when both share one clock; default: "
+                        "found from the angular speeds)")
+    m.add_argument("--max-offset", type=_real("--max-offset", "seconds", "5", 1e-9, 1e12), default=None,
+                   help="with --rates: largest clock offset searched, seconds")
+    m.add_argument("--rotation-tolerance", type=_real("--rotation-tolerance", "degrees", "1", 1e-6, 180.0),
+                   default=1.0, help="with --rates: rms residual accepted per interval, degrees (1)")
+    m.add_argument("--limit", type=_whole("--limit", "explanations", "5"), default=5,
+                   help="how many explanations to list (5)")
+    m.add_argument("--json", action="store_true", help="print JSON")
+
+
+def _motion_mount(text):
+    """--mount: None, 'identity', or nine numbers of a rotation matrix, row by row."""
+    from .io.paste import parse_numbers
+
+    if text is None or text.strip().lower() == "identity":
+        return None if text is None else "identity"
+    try:
+        nums = np.asarray(parse_numbers(text).numbers, dtype=float).reshape(-1)
+    except PoseInputError as exc:
+        raise CliInputError(f"--mount: {exc}") from None
+    if nums.size != 9:
+        raise CliInputError(f"--mount: got {nums.size} numbers; accepted: 'identity' or the 9 numbers of the sensor "
+                            "frame's rotation in the body frame, row by row")
+    return nums.reshape(3, 3)
+
+
+def _motion(args) -> tuple[dict, str, bool]:
+    from .analysis.alignment import StreamLogError, read_stream_log
+    from .analysis.motion import explain_known_motion, explain_rates
+
+    if (args.described is None) == (args.rates is None):
+        raise CliInputError("motion: give --described TEXT (what physically happened) or --rates RATE_LOG (a rate "
+                            "log of the same body); accepted: exactly one of the two")
+    if args.rates is None:
+        given = [f for f, v in (("--rate-time", args.rate_time), ("--rate-values", args.rate_values),
+                                ("--rate-reading", args.rate_reading), ("--offset", args.offset),
+                                ("--max-offset", args.max_offset)) if v is not None]
+    else:
+        given = [f for f, v in (("--mount", args.mount),) if v is not None]
+    if given:
+        other = "--rates" if args.rates is None else "--described"
+        raise CliInputError(f"motion: {', '.join(given)} only apply with {other}, and would be ignored; accepted: "
+                            f"those options together with {other}")
+    if args.log == "-" and args.rates == "-":
+        raise CliInputError("LOG and RATE_LOG both read standard input (-); accepted: - for at most one of them")
+    sources = [("LOG", args.log, args.time, args.values, "--time", "--values")]
+    if args.rates is not None:
+        sources.append(("RATE_LOG", args.rates, args.rate_time, args.rate_values, "--rate-time", "--rate-values"))
+    logs = []
+    for name, path, time_col, value_cols, time_flag, values_flag in sources:
+        labels = {"source": f"{name} ({excerpt(path, 80)})", "time_column": time_flag, "value_columns": values_flag}
+        try:
+            logs.append(read_stream_log(path, time_col, value_cols, labels=labels))
+        except StreamLogError:
+            raise
+        except PoseInputError as exc:
+            raise CliInputError(f"{name}: {exc}") from None
+    log = logs[0]
+    lines_in = [f"LOG {excerpt(args.log, 80)}: {log.words()}"]
+    if args.rates is None:
+        if not args.described.strip():
+            raise CliInputError("--described is blank; accepted: what physically happened, e.g. 'turned left in "
+                                "place a full turn'")
+        result = explain_known_motion(log.times, log.values, args.reading, args.described, kind=args.kind,
+                                      mount=_motion_mount(args.mount),
+                                      angle_tolerance=math.radians(args.angle_tolerance),
+                                      axis_tolerance=math.radians(args.axis_tolerance), limit=args.limit)
+    else:
+        rates = logs[1]
+        lines_in.append(f"RATE_LOG {excerpt(args.rates, 80)}: {rates.words()}")
+        result = explain_rates(rates.times, rates.values, log.times, log.values, args.reading,
+                               rates_reading=args.rate_reading, kind=args.kind, offset=args.offset,
+                               max_offset=args.max_offset, rotation_tolerance=math.radians(args.rotation_tolerance),
+                               limit=args.limit)
+    data = result.as_dict()
+    data["logs"] = {name: {"source": lg.source, "rows": int(len(lg.times)), "time_column": lg.time_column,
+                           "value_columns": list(lg.value_columns), "found_by_posekit": list(lg.inferred)}
+                    for name, lg in zip(("LOG", "RATE_LOG"), logs)}
+    head, _, rest = result.summary().partition("\n")
+    return data, "\n".join([head, *lines_in, rest]), result.explained
+
+
+#: ``scan``'s choices, written out so that building the parser imports no analysis code (tests check they match).
+_SCAN_KINDS = ("quaternion", "euler", "matrix")
+_SCAN_READERS = ("auto", "pyarrow", "python")
+_SCAN_SCHEDULERS = ("auto", "threads", "processes", "serial")
+_SCAN_CHECKS = ("rate_limit", "gap_limit", "gap_factor", "lock_margin", "norm_tolerance", "matrix_tolerance")
+
+
+def _add_scan_parser(sub) -> None:
+    """The ``scan`` verb: one log, or a folder or glob of logs -> trajectory findings per file."""
+    s = sub.add_parser("scan", help="check one log, or a folder or glob of logs, for trajectory findings",
+                       description="Check one CSV or Parquet log, or a folder or glob of them (in parallel on Dask "
+                                   "when it is installed), for quaternion sign flips, Euler wraps, gimbal lock, "
+                                   "norm drift, time faults and turn rates; one block of findings per file. Exit "
+                                   "status 0: every file checked and nothing found; 1: something found (a finding, "
+                                   "a rejected row) or a file that could not be checked (named with its error); 2: "
+                                   "bad arguments, or no file could be checked at all.")
+    s.add_argument("sources", nargs="+", metavar="LOG",
+                   help="a CSV or Parquet log, a folder (the .csv .tsv .txt .parquet .pq files directly inside), or a "
+                        "glob such as 'logs/**/*.csv' (quoted, so that posekit expands it)")
+    s.add_argument("--kind", choices=_SCAN_KINDS, default=None,
+                   help="what the pose columns hold (default: found from the header names)")
+    s.add_argument("--convention", metavar="CONV", default=None,
+                   help="how the numbers are read, posekit convention text, e.g. scalar=last or "
+                        "'sequence=z-y-x unit=degrees' (default: posekit's defaults)")
+    s.add_argument("--time-column", metavar="COLUMN", default=None,
+                   help="the time column: a header name or a 0-based number (default: found from the header)")
+    s.add_argument("--value-columns", metavar="COLUMNS", default=None,
+                   help="the pose columns, names or 0-based numbers separated by commas, in the order the convention "
+                        "reads them (needs --time-column)")
+    s.add_argument("--delimiter", metavar="CHAR", default=None,
+                   help="the field delimiter of CSV logs: one character, or 'tab' (default: found from the first line)")
+    s.add_argument("--comment", metavar="TEXT", default="#", help="lines starting with this are skipped ('#')")
+    s.add_argument("--no-comments", action="store_true", help="no line is a comment")
+    for flag, unit, example in (("--rate-limit", "degrees or radians (the convention's unit) per time unit", "90"),
+                                ("--gap-limit", "time units", "0.5"),
+                                ("--gap-factor", "times the median time step", "5"),
+                                ("--lock-margin", "degrees or radians (the convention's unit)", "5"),
+                                ("--norm-tolerance", "quaternion length", "0.001"),
+                                ("--matrix-tolerance", "|M^T M - I|", "1e-6")):
+        s.add_argument(flag, type=_real(flag, unit, example, 1e-300, 1e300), default=None,
+                       help=f"in {unit} (default: that of check_trajectory)")
+    s.add_argument("--reader", choices=_SCAN_READERS, default="auto",
+                   help="CSV reader: pyarrow when installed (auto), or the pure-Python one")
+    s.add_argument("--scheduler", choices=_SCAN_SCHEDULERS, default="auto",
+                   help="where the files are checked: Dask threads when dask is installed (auto), Dask processes, or "
+                        "one after another (serial)")
+    s.add_argument("--workers", type=_whole("--workers", "workers", "2"), default=None,
+                   help="how many files at a time (default: the number of processors)")
+    s.add_argument("--cluster", metavar="ADDRESS", default=None,
+                   help="run on a running Dask cluster, e.g. tcp://10.0.0.5:8786 (needs the package distributed)")
+    s.add_argument("--no-progress", action="store_true",
+                   help="no progress bar (shown on standard error when it is a terminal and the work takes long)")
+    s.add_argument("--input-limit", type=_whole("--input-limit", "bytes", "4GiB", sizes=True), default=None,
+                   metavar="BYTES", help="the most bytes read from each log (default 1 GiB); e.g. 4GiB")
+    s.add_argument("--json", action="store_true", help="print JSON")
+
+
+def _scan_column(text: str):
+    """A column given on the command line: 0-based number when all digits, else a header name."""
+    text = text.strip()
+    return int(text) if text.isascii() and text.isdigit() else text
+
+
+def _plain(value):
+    """A table value for JSON: NaN and missing as None, numpy numbers as Python ones."""
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return None
+    if hasattr(value, "item"):
+        value = value.item()
+    try:
+        if value != value:     # pandas' missing value (NA) is not equal to itself, nor anything else
+            return None
+    except TypeError:          # comparing NA raises in a boolean context: missing
+        return None
+    return value
+
+
+def _scan(args) -> tuple[dict, str, bool]:
+    from .analysis.fleet import check_logs
+    from .core.reading import as_convention
+    from .io.limits import LOG_LIMIT
+
+    if args.cluster is not None and args.scheduler != "auto":
+        raise CliInputError(f"--cluster and --scheduler {args.scheduler} both given; accepted: one of them (a "
+                            "cluster runs the work itself)")
+    if args.value_columns is not None and args.time_column is None:
+        raise CliInputError("--value-columns given without --time-column; accepted: both, or neither to find them "
+                            "from the header")
+    as_convention(args.convention)                              # a bad convention is said once, not per file
+    delimiter = "\t" if args.delimiter in ("tab", "\\t") else args.delimiter
+    checks = {k: getattr(args, k) for k in _SCAN_CHECKS if getattr(args, k) is not None}
+    df = check_logs(args.sources if len(args.sources) > 1 else args.sources[0], kind=args.kind,
+                    convention=args.convention,
+                    time_column=None if args.time_column is None else _scan_column(args.time_column),
+                    value_columns=None if args.value_columns is None else
+                    [_scan_column(c) for c in args.value_columns.split(",")],
+                    delimiter=delimiter, comment=None if args.no_comments else args.comment,
+                    limit=args.input_limit or LOG_LIMIT, reader=args.reader, scheduler=args.scheduler,
+                    workers=args.workers, address=args.cluster, progress=False if args.no_progress else None, **checks)
+    files = []
+    for path, rows in df.groupby("file", sort=False):
+        first = rows.iloc[0]
+        entry = {"file": path, "status": first["status"], "rows": _plain(first["log_rows"]),
+                 "used": _plain(first["used"]), "kind": _plain(first["kind"]),
+                 "error_type": _plain(first["error_type"]), "error": _plain(first["error"]), "findings": {}}
+        if first["status"] != "failed":
+            for _, row in rows.iterrows():
+                entry["findings"][row["finding"]] = {k: _plain(row[k]) for k in (
+                    "checked", "rows", "spans", "first_row", "first_time", "last_row", "last_time", "detail")}
+        files.append(entry)
+    counts = {status: sum(f["status"] == status for f in files) for status in ("clean", "findings", "failed")}
+    failed = [f for f in files if f["status"] == "failed"]
+    if len(failed) == len(files):
+        if len(files) == 1:
+            raise CliInputError(failed[0]["error"])
+        raise CliInputError(f"none of the {len(files)} logs could be checked; the first, "
+                            f"{excerpt(failed[0]['file'], 80)}: {failed[0]['error']}")
+    lines = [f"scanned {len(files)} log{'s' if len(files) > 1 else ''} ({counts['clean']} clean, {counts['findings']} "
+             f"with findings, {counts['failed']} failed) on {df.attrs['scheduler']}"]
+    for f in files:
+        if f["status"] == "failed":
+            lines.append(f"{f['file']}: failed: {f['error_type']}: {f['error']}")
+            continue
+        lines.append(f"{f['file']}: {f['status']}: {f['rows']} rows of {f['kind']}, {f['used']} used")
+        lines.extend(f"  {v['detail']}" for v in f["findings"].values() if v["rows"])
+    data = {"scheduler": df.attrs["scheduler"], "counts": counts, "files": files}
+    return data, "\n".join(lines), counts["clean"] == len(files)
+
+
 _CARET = re.compile(r"\s*\^\s*")
 _ESCAPED = re.compile(r"\\(?:u([0-9a-fA-F]{4})|x([0-9a-fA-F]{2}))")
 
@@ -487,7 +846,8 @@ def main(argv=None) -> int:
     try:
         if args.verb == "tour":
             return _tour(args.folder, args.print_command)
-        handler = {"diagnose": _diagnose, "convert": _convert, "check": _check, "notebook": _notebook}[args.verb]
+        handler = {"diagnose": _diagnose, "convert": _convert, "check": _check, "notebook": _notebook,
+                   "mount": _mount, "motion": _motion, "scan": _scan}[args.verb]
         with warnings.catch_warnings(record=True) as caught:  # numpy's overflow notes: said once, on one line
             warnings.simplefilter("default")
             data, text, *found = handler(args)

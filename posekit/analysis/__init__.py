@@ -45,3 +45,12 @@ __all__ += ["FrameGraph", "Edge", "Step", "Lookup", "Readout", "Placement", "Fra
             "DisagreeingEdgeError", "LoopInTreeError", "read_planar", "write_planar", "orchard_rover",
             "orchard_rover_planar"]
 from .alignment import *; from .alignment import __all__ as _alignment_names; __all__ += _alignment_names  # noqa: E402,F401,F403,E702 (two sensors on one body)
+from .fleet import (FLEET_COLUMNS, ClusterError, NoLogsFoundError, check_logs,  # noqa: E402 (many logs on Dask)
+                    find_logs)
+__all__ += ["check_logs", "find_logs", "FLEET_COLUMNS", "NoLogsFoundError", "ClusterError"]
+from .motion import (KnownMotionError, MotionDiagnosis, RateDiagnosis, RateReading, RateReadingError,  # noqa: E402
+                     RateStreamError, StillLogError, explain_known_motion, explain_rates, integrate_rates,
+                     turning_path)
+__all__ += ["explain_known_motion", "explain_rates", "integrate_rates", "turning_path", "MotionDiagnosis",
+            "RateDiagnosis", "RateReading", "KnownMotionError", "StillLogError", "RateStreamError",
+            "RateReadingError"]
