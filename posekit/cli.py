@@ -9,7 +9,7 @@ Verbs::
     posekit tour [--folder DIR] [--print-command]
     posekit notebook NAME [--folder DIR]        # or: posekit notebook --list
     posekit mount LOG_A LOG_B [--reading-a CONV] [--reading-b CONV] [options]   # two sensors, one rigid body
-    posekit scan LOG [LOG ...] [--convention CONV] [options]   # one log, a folder or a glob: findings per file
+    posekit scan LOG [LOG ...] [--reading CONV] [options]   # one log, a folder or a glob: findings per file
     posekit motion LOG --described TEXT [--reading CONV] [--mount M]   # the log's reading from a known motion
     posekit motion LOG --rates RATE_LOG [--rate-reading TEXT]          # ... or from a rate log of the same body
 
@@ -665,14 +665,14 @@ def _add_scan_parser(sub) -> None:
                         "glob such as 'logs/**/*.csv' (quoted, so that posekit expands it)")
     s.add_argument("--kind", choices=_SCAN_KINDS, default=None,
                    help="what the pose columns hold (default: found from the header names)")
-    s.add_argument("--convention", metavar="CONV", default=None,
+    s.add_argument("--reading", dest="convention", metavar="CONV", default=None,
                    help="how the numbers are read, posekit convention text, e.g. scalar=last or "
                         "'sequence=z-y-x unit=degrees' (default: posekit's defaults)")
-    s.add_argument("--time-column", metavar="COLUMN", default=None,
+    s.add_argument("--time", dest="time_column", metavar="COLUMN", default=None,
                    help="the time column: a header name or a 0-based number (default: found from the header)")
-    s.add_argument("--value-columns", metavar="COLUMNS", default=None,
+    s.add_argument("--values", dest="value_columns", metavar="COLUMNS", default=None,
                    help="the pose columns, names or 0-based numbers separated by commas, in the order the convention "
-                        "reads them (needs --time-column)")
+                        "reads them (needs --time)")
     s.add_argument("--delimiter", metavar="CHAR", default=None,
                    help="the field delimiter of CSV logs: one character, or 'tab' (default: found from the first line)")
     s.add_argument("--comment", metavar="TEXT", default="#", help="lines starting with this are skipped ('#')")
@@ -730,7 +730,7 @@ def _scan(args) -> tuple[dict, str, bool]:
         raise CliInputError(f"--cluster and --scheduler {args.scheduler} both given; accepted: one of them (a "
                             "cluster runs the work itself)")
     if args.value_columns is not None and args.time_column is None:
-        raise CliInputError("--value-columns given without --time-column; accepted: both, or neither to find them "
+        raise CliInputError("--values given without --time; accepted: both, or neither to find them "
                             "from the header")
     as_convention(args.convention)                              # a bad convention is said once, not per file
     delimiter = "\t" if args.delimiter in ("tab", "\\t") else args.delimiter
@@ -812,7 +812,8 @@ def _one_line(message: str, cap: int = 2000) -> str:
 
 #: Options whose values are words posekit knows (conventions, kinds): only ASCII is meaningful there.
 _WORD_OPTIONS = ("source", "target", "from_kind", "to_kind", "expected_convention", "assumed", "expected_kind",
-                 "assumed_kind", "name")
+                 "assumed_kind", "name", "reading", "reading_a", "reading_b", "kind", "kind_a", "kind_b",
+                 "rate_reading", "convention")
 
 
 def _look_alike_words(args, message: str) -> str:
@@ -823,7 +824,7 @@ def _look_alike_words(args, message: str) -> str:
         if isinstance(value, str) and not value.isascii():
             odd = [o for o in odd_characters(value[:200]) if re.search(r"U\+[0-9A-F]{4,}", o).group(0) not in message]
             if odd:
-                flag = {"source": "--from", "target": "--to", "name": "NAME"}.get(option,
+                flag = {"source": "--from", "target": "--to", "name": "NAME", "convention": "--reading"}.get(option,
                                                                                  "--" + option.replace("_", "-"))
                 found.append(f"{flag} holds {'; '.join(odd[:3])}")
     if not found:

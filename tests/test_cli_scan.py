@@ -127,17 +127,17 @@ def test_column_mapping_flags_match_the_api(tmp_path):
     api = check_trajectory_csv(xyzw, time_column="time", value_columns=["a", "b", "c", "d"],
                                convention="scalar=last", delimiter="\t")
     assert api.findings["quaternion_sign_flips"].rows.tolist() == [500]
-    for columns in (["--time-column", "time", "--value-columns", "a,b,c,d"],
-                    ["--time-column", "0", "--value-columns", "1, 2, 3, 4"]):
-        code, data, err = scan_json(xyzw, *columns, "--convention", "scalar=last", "--delimiter", "tab",
+    for columns in (["--time", "time", "--values", "a,b,c,d"],
+                    ["--time", "0", "--values", "1, 2, 3, 4"]):
+        code, data, err = scan_json(xyzw, *columns, "--reading", "scalar=last", "--delimiter", "tab",
                                     "--kind", "quaternion", "--reader", "python")
         assert code == 1 and err == "", err
         got = data["files"][0]["findings"]
         assert {k: v["rows"] for k, v in got.items() if k != "rejected"} == \
             {k: f.count for k, f in api.findings.items()}
         assert got["quaternion_sign_flips"]["first_row"] == 500
-    # without --convention the same columns are read scalar first: other findings, as the API says
-    code, data, _ = scan_json(xyzw, "--time-column", "time", "--value-columns", "a,b,c,d", "--delimiter", "tab")
+    # without --reading the same columns are read scalar first: other findings, as the API says
+    code, data, _ = scan_json(xyzw, "--time", "time", "--values", "a,b,c,d", "--delimiter", "tab")
     wrong = check_trajectory_csv(xyzw, time_column="time", value_columns=["a", "b", "c", "d"], delimiter="\t")
     assert wrong.counts() != api.counts()                          # the flag changes the answer ...
     got = data["files"][0]["findings"]
@@ -151,8 +151,8 @@ def test_glob_and_several_sources(folder):
 
 
 @pytest.mark.parametrize("argv, words", [
-    (["{folder}", "--convention", "sideways=up"], ["unknown key 'sideways'"]),
-    (["{folder}", "--value-columns", "a,b,c,d"], ["--value-columns given without --time-column"]),
+    (["{folder}", "--reading", "sideways=up"], ["unknown key 'sideways'"]),
+    (["{folder}", "--values", "a,b,c,d"], ["--values given without --time"]),
     (["{folder}", "--cluster", "tcp://127.0.0.1:1", "--scheduler", "threads"], ["--cluster and --scheduler"]),
     (["{folder}/nothing-*.csv"], ["no file matches"]),
     (["{folder}", "--workers", "0"], ["--workers", "whole number"]),
