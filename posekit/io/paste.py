@@ -1162,27 +1162,29 @@ def _interpret_named(values: np.ndarray, names: tuple[str, ...], units: dict[str
     lists: dict[str, list[float]] = {}
     angle_units = set()
     length_scale = set()
+    role: dict[str, str] = {}  # what each component was placed as: which unit words fit it
     for name, v in zip(names, values):
         sect, _, key = name.rpartition(".")
-        u = units.get(name)
-        if u in _ANGLE_UNITS:
-            angle_units.add(_ANGLE_UNITS[u])
-        elif u in _LENGTH_UNITS:
-            length_scale.add(_LENGTH_UNITS[u])
         m = re.fullmatch(r"(\w+)\[(\d+)\]", key)
         if m:
             lists.setdefault(m.group(1), []).append(v)
+            role[name] = "length" if m.group(1) == "position" else "rotation list"
             continue
         if sect == "position" or key in _POSITION_NAMES:
             pos[_POSITION_NAMES.get(key, key)] = v
+            role[name] = "length"
         elif key in _ANGLE_NAMES:
             ang[_ANGLE_NAMES[key]] = v
+            role[name] = "angle"
         elif key in _ROTVEC_NAMES:
             rvec[_ROTVEC_NAMES[key]] = v
+            role[name] = "angle"
         elif sect == "rotation" or key in _QUATERNION_NAMES:
             quat[_QUATERNION_NAMES.get(key, key)] = v
+            role[name] = "quaternion"
         elif key in ("x", "y", "z"):
             pos[key] = v
+            role[name] = "length"
         else:
             raise NoInterpretationError(f"component '{name}' is not one posekit can place")
     # a bare x y z w (no headings) is a quaternion
@@ -1190,6 +1192,23 @@ def _interpret_named(values: np.ndarray, names: tuple[str, ...], units: dict[str
             and set(quat) == {"w"}:
         quat.update(pos)
         pos = {}
+        role = {n: "quaternion" for n in role}
+    rot_count = len(lists.get("rotation", ()))
+    for name, r in role.items():
+        u = units.get(name)
+        if u is None:
+            continue
+        if r == "rotation list":
+            r = "angle" if rot_count == 3 else "quaternion"
+        if r == "length" and u in _LENGTH_UNITS:
+            length_scale.add(_LENGTH_UNITS[u])
+        elif r == "angle" and u in _ANGLE_UNITS:
+            angle_units.add(_ANGLE_UNITS[u])
+        else:  # a unit word on a component it does not fit: said, never dropped or moved elsewhere
+            fits = {"length": "a length unit (m, cm, mm)", "angle": "an angle unit (deg, rad)",
+                    "quaternion": "no unit (quaternion components have none)"}[r]
+            raise NoInterpretationError(f"component '{name}' was read as {'an' if r == 'angle' else 'a'} {r} but "
+                                        f"carries the unit word '{u}'; accepted: {fits}")
     if len(length_scale) > 1:
         raise NoInterpretationError("the position components carry different length units; use one unit")
     scale = length_scale.pop() if length_scale else 1.0
@@ -1253,7 +1272,10 @@ def _interpret_named(values: np.ndarray, names: tuple[str, ...], units: dict[str
             if rej:
                 raise NoInterpretationError(rej[0])
         else:
-            out = _angle_candidates(r, "", translation, True, count)
+            out = _angle_candidates(r, "", translation, True, count,
+                                    units=tuple(angle_units) if angle_units else ("radians", "degrees"))
+            if angle_units:
+                notes.append(f"the angles are stated in {next(iter(angle_units))}")
         lead = [] if translation is None else [float(v) for v in translation]
         out = [replace(i, numbers=tuple(lead + [float(v) for v in r])) for i in out]
     elif translation is not None:
