@@ -79,13 +79,16 @@ def shown_text(text, *, lines: bool = False, isolate: bool = False) -> str:
     """User text made safe to show in HTML outside the template (plotly trace names, messages).
 
     The same treatment as the template's filters: hidden characters shown as ``<U+XXXX>``,
-    then escaped (Python's :func:`html.escape`).  ``lines`` keeps line breaks;
-    ``isolate`` wraps the result in ``<bdi>``.
+    then escaped (Python's :func:`html.escape`), the double quote as the numeric ``&#34;``:
+    plotly.js reads numeric entities in trace names but shows ``&quot;`` as typed.
+    ``lines`` keeps line breaks; ``isolate`` wraps the result in ``<bdi>``.
 
     >>> shown_text("<b>x</b>\\u202e")
     '&lt;b&gt;x&lt;/b&gt;&lt;U+202E&gt;'
+    >>> shown_text('say "hi"')
+    'say &#34;hi&#34;'
     """
-    escaped = html.escape(_visible_lines(text) if lines else _visible(text), quote=True)
+    escaped = html.escape(_visible_lines(text) if lines else _visible(text), quote=True).replace("&quot;", "&#34;")
     return f"<bdi>{escaped}</bdi>" if isolate else escaped
 
 
