@@ -721,8 +721,16 @@ def _plain(value):
     return value
 
 
+#: keyword arguments of check_logs named in its messages, and the scan flags that set them
+_SCAN_FLAGS = (("time_column= and value_columns=", "--time and --values"), ("value_columns=", "--values"),
+               ("time_column=", "--time"), ("convention=", "--reading"))
+#: numbers per row of each kind scan reads
+_SCAN_COUNTS = {"quaternion": 4, "euler": 3, "matrix": 9}
+
+
 def _scan(args) -> tuple[dict, str, bool]:
     from .analysis.fleet import check_logs
+    from .explain import stated_reading
     from .core.reading import as_convention
     from .io.limits import LOG_LIMIT
 
@@ -749,6 +757,11 @@ def _scan(args) -> tuple[dict, str, bool]:
         entry = {"file": path, "status": first["status"], "rows": _plain(first["log_rows"]),
                  "used": _plain(first["used"]), "kind": _plain(first["kind"]),
                  "error_type": _plain(first["error_type"]), "error": _plain(first["error"]), "findings": {}}
+        if entry["error"]:  # the API's keyword names, said as this command's flags
+            for keyword, flag in _SCAN_FLAGS:
+                entry["error"] = entry["error"].replace(keyword, flag)
+        if entry["kind"] in _SCAN_COUNTS:  # how the file's numbers were read: stated fields and defaults
+            entry["reading"] = stated_reading(_SCAN_COUNTS[entry["kind"]], entry["kind"], args.convention).said_back()
         if first["status"] != "failed":
             for _, row in rows.iterrows():
                 entry["findings"][row["finding"]] = {k: _plain(row[k]) for k in (
@@ -767,7 +780,7 @@ def _scan(args) -> tuple[dict, str, bool]:
         if f["status"] == "failed":
             lines.append(f"{f['file']}: failed: {f['error_type']}: {f['error']}")
             continue
-        lines.append(f"{f['file']}: {f['status']}: {f['rows']} rows of {f['kind']}, {f['used']} used")
+        lines.append(f"{f['file']}: {f['status']}: {f['rows']} rows, {f['used']} used; {f['reading']}")
         lines.extend(f"  {v['detail']}" for v in f["findings"].values() if v["rows"])
     data = {"scheduler": df.attrs["scheduler"], "counts": counts, "files": files}
     return data, "\n".join(lines), counts["clean"] == len(files)

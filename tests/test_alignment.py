@@ -642,7 +642,7 @@ def test_read_stream_log_refuses_what_it_cannot_read_naming_the_input(tmp_path):
     bad_rows[4][2] = "oops"
     bad_rows[7][3] = "nan"
     bad = _write_log(tmp_path / "b.csv", ["t", "qw", "qx", "qy", "qz"], bad_rows)
-    with pytest.raises(StreamLogError, match=r"^stream A's file: 2 row\(s\) .*row 4 \(line 6\).*oops.*row 7 "
+    with pytest.raises(StreamLogError, match=r"^stream A's file: 2 rows .*row 4 \(line 6\).*oops.*row 7 "
                                               r"\(line 9\): NaN or infinity.*none is skipped"):
         read_stream_log(bad, labels=labels)
     no_time = _write_log(tmp_path / "c.csv", ["when", "qw", "qx", "qy", "qz"], good)

@@ -80,7 +80,11 @@ def test_a_folder_gives_the_apis_values_file_by_file(folder):
         rows = table[table["file"] == entry["file"]]
         if entry["status"] == "failed":
             assert entry["error_type"] == "MissingColumnError" == rows["error_type"].iloc[0]
-            assert entry["error"] == rows["error"].iloc[0] and entry["findings"] == {}
+            # the API's keyword names said as the command's flags (value_columns= -> --values)
+            want = rows["error"].iloc[0]
+            for keyword, flag in cli._SCAN_FLAGS:
+                want = want.replace(keyword, flag)
+            assert entry["error"] == want and entry["findings"] == {}
             continue
         report = check_trajectory_csv(entry["file"], rate_limit=50.0)
         assert entry["rows"] == report.rows == N and entry["used"] == int(report.used.sum())
@@ -102,10 +106,14 @@ def test_the_text_names_each_file_and_its_findings(folder):
     lines = out.splitlines()
     assert lines[0] == "scanned 5 logs (1 clean, 3 with findings, 1 failed) on serial"
     report = check_trajectory_csv(folder / "log2.csv")
-    at = lines.index(f"{folder / 'log2.csv'}: findings: {N} rows of quaternion, {N} used")
+    # how the numbers were read is said back, the unstated fields named (explain.Reading.said_back)
+    said = ("read as a quaternion written (w, x, y, z), Hamilton algebra, active, parent-from-child; you stated no "
+            "field; not stated, so free to be wrong: scalar=first algebra=hamilton action=active "
+            "direction=parent-from-child")
+    at = lines.index(f"{folder / 'log2.csv'}: findings: {N} rows, {N} used; {said}")
     shown = [f"  {f.words()}" for f in report.findings.values() if f.count]
     assert lines[at + 1:at + 1 + len(shown)] == shown
-    assert f"{folder / 'log0.csv'}: clean: {N} rows of quaternion, {N} used" in lines
+    assert f"{folder / 'log0.csv'}: clean: {N} rows, {N} used; {said}" in lines
     assert any(ln.startswith(f"{folder / 'broken.csv'}: failed: MissingColumnError: CSV header (line 1): no pose")
                for ln in lines)
 
@@ -117,7 +125,11 @@ def test_one_clean_file_exits_0_and_one_bad_file_exits_2(folder):
     _judge_one_line(code, out, err, ["no pose columns recognised", "accepted"])
     with pytest.raises(Exception) as info:
         check_trajectory_csv(folder / "broken.csv")
-    assert err == f"posekit scan: error: {cli._one_line(str(info.value))}\n"
+    want = str(info.value)
+    for keyword, flag in cli._SCAN_FLAGS:  # said as the command's flags
+        want = want.replace(keyword, flag)
+    assert "value_columns=" in str(info.value) and "--values" in want
+    assert err == f"posekit scan: error: {cli._one_line(want)}\n"
 
 
 def test_column_mapping_flags_match_the_api(tmp_path):

@@ -107,7 +107,7 @@ def test_injected_time_faults_are_found_at_their_rows():
     assert rep.findings["time_duplicates"].rows.tolist() == [400]
     assert rep.findings["time_backwards"].rows.tolist() == [600]
     assert rep.findings["time_gaps"].rows.tolist() == [1000]
-    assert "time_gaps: 1 row(s) in 1 span(s) -- row 1000 (t = 10.2)" in rep.summary()
+    assert "time_gaps: 1 row in 1 span -- row 1000 (t = 10.2)" in rep.summary()
     assert "5 x the median" in rep.settings["gap_limit"]
     assert np.isnan(rep.rate[400]) and np.isnan(rep.rate[600])
     assert rep.findings["quaternion_sign_flips"].count == 0

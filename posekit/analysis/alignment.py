@@ -45,7 +45,7 @@ import numpy as np
 
 from ..core import rotation as rot
 from ..core.checks import as_numbers, checked_count, checked_matrix, checked_tolerance, orthonormality_error
-from ..core.errors import PoseInputError, WrongShapeError, summarise
+from ..core.errors import PoseInputError, WrongShapeError, plural, summarise
 from ..explain import (COUNTS, EQUIVALENT, PRIOR_WEIGHT, PROPER_REMAPS, REMAPS, Reading, Slip, angles_between,
                        describe_remap, fix_code, read_numbers, readings_of, remap_cost, sentence, stated_reading,
                        write_numbers)
@@ -1691,8 +1691,8 @@ def read_stream_log(source, time_column=None, value_columns=None, *, labels=None
                 listed[r] = f"row {r}{line}: NaN or infinity"
         rows = sorted(listed)
         more = f", and {len(rows) - ROWS_NAMED} more" if len(rows) > ROWS_NAMED else ""
-        raise StreamLogError(f"{words['source']}: {len(rows)} row(s) cannot be read as numbers in the columns used: "
-                             + "; ".join(listed[r] for r in rows[:ROWS_NAMED]) + f"{more}; accepted: a finite number "
+        raise StreamLogError(f"{words['source']}: {plural(len(rows), 'row')} cannot be read as numbers in the "
+                             "columns used: " + "; ".join(listed[r] for r in rows[:ROWS_NAMED]) + f"{more}; accepted: a finite number "
                              "in every column read on every row (fix or delete those rows: none is skipped)")
     return StreamLog(str(table.source), np.ascontiguousarray(arr[:, 0]), np.ascontiguousarray(arr[:, 1:]),
                      names[ti], tuple(names[i] for i in vi), tuple(inferred))

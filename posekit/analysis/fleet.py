@@ -41,7 +41,7 @@ import os
 import sys
 import time
 
-from ..core.errors import PoseInputError, excerpt, summarise
+from ..core.errors import PoseInputError, excerpt, plural, summarise
 from ..io.limits import LOG_LIMIT
 from ..io.logs import MissingPackageError, TrajectoryInputError, _pyarrow
 from .trajectory import _CHECK_OPTIONS, check_trajectory_csv
@@ -147,7 +147,8 @@ def _rows_of(path: str, options: dict) -> list[dict]:
                  "spans": int(sum(1 for i, r in enumerate(rejected_rows) if i == 0 or r != rejected_rows[i - 1] + 1)),
                  "first_row": rej[0].row if rej else None, "first_time": None,
                  "last_row": rej[-1].row if rej else None, "last_time": None,
-                 "detail": (f"{len(rej)} row(s) rejected; first: {rej[0].words()}" if rej else "rejected: none")})
+                 "detail": (f"{plural(len(rej), 'row')} rejected; first: {rej[0].words()}" if rej
+                            else "rejected: none")})
     flagged = any(r["rows"] for r in rows)
     used = int(report.used.sum())
     for r in rows:

@@ -43,7 +43,7 @@ import numpy as np
 from ..core.checks import orthonormality_error
 from ..core.rotation import wrap_signed
 from ..core.convention import CHOICES, Convention
-from ..core.errors import WrongShapeError, WrongTypeError, excerpt, odd_characters, summarise
+from ..core.errors import WrongShapeError, WrongTypeError, excerpt, odd_characters, plural, summarise
 from ..core.reading import as_convention, read_rotation, write_rotation
 from ..explain import Reading, Slip, read_numbers, sentence, stated_fields
 from ..io.limits import LOG_LIMIT
@@ -130,8 +130,9 @@ class Finding:
         if not self.count:
             return f"{self.name}: none"
         shown = "; ".join(s.words() for s in self.spans[:limit])
-        more = f"; and {self.span_first.size - limit} more span(s)" if self.span_first.size > limit else ""
-        return f"{self.name}: {self.count} row(s) in {self.span_first.size} span(s) -- {shown}{more}"
+        more = f"; and {plural(self.span_first.size - limit, 'more span')}" if self.span_first.size > limit else ""
+        spans = plural(int(self.span_first.size), "span")
+        return f"{self.name}: {plural(self.count, 'row')} in {spans} -- {shown}{more}"
 
 
 def _finding(name: str, rows, times, checked: bool = True, description: str | None = None) -> Finding:

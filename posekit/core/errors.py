@@ -13,6 +13,7 @@ working.
 from __future__ import annotations
 
 __all__ = [
+    "plural",
     "PoseInputError",
     "WrongTypeError",
     "WrongShapeError",
@@ -78,6 +79,15 @@ class InputTooLargeError(PoseInputError):
 
 class ConventionTextTooLongError(ConventionTextError, InputTooLargeError):
     """Convention text longer than its limit (caught as either of its two parents)."""
+
+
+def plural(n: int, noun: str, many: str | None = None) -> str:
+    """``n`` and the noun, plural unless n is 1: ``plural(1, "pair")`` -> '1 pair', ``plural(2, "pair")`` -> '2 pairs'.
+
+    >>> plural(1, "other explanation"), plural(3, "line"), plural(2, "key", "keys")
+    ('1 other explanation', '3 lines', '2 keys')
+    """
+    return f"{n} {noun if n == 1 else (many or noun + 's')}"
 
 
 def summarise(value, limit: int = 80) -> str:

@@ -62,7 +62,7 @@ from ..core import rotation as rot
 from ..core.checks import as_numbers, orthonormality_error
 from ..core.convention import Convention
 from ..core.reading import describe_numbers
-from ..core.errors import PoseInputError, excerpt, isolate_controls, odd_characters
+from ..core.errors import PoseInputError, excerpt, isolate_controls, odd_characters, plural
 from .limits import PASTE_LIMIT, check_text_size
 
 __all__ = ["PasteParseError", "NestingTooDeepError", "AmbiguousCommaError", "NoInterpretationError",
@@ -1351,7 +1351,7 @@ class ParsedNumbers:
         if not self.interpretations:
             lines.append("no pose representation has this many numbers")
         else:
-            lines.append(f"{len(self.interpretations)} interpretation(s)"
+            lines.append(plural(len(self.interpretations), "interpretation")
                          + (", several equally valid (none picked):" if self.ambiguous else ":"))
             for i in self.interpretations:
                 lines.append(f"  [{i.score:.3f}] {i.describe()}" + (f"  -- {'; '.join(i.reasons)}" if i.reasons else ""))

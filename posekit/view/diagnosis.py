@@ -12,6 +12,8 @@ import numpy as np
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
+from ..core.errors import plural  # noqa: F401 - re-exported: widgets use view.diagnosis.plural
+
 __all__ = ["residual_figure", "parsed_html", "error_html", "choice_words", "guess_html", "plural"]
 
 
@@ -96,13 +98,6 @@ def error_html(exc) -> str:
     return f"<div class='pk-bad'>could not use this:</div><pre class='pk-caret'>{html.escape(str(exc))}</pre>"
 
 
-def plural(n: int, noun: str, many: str | None = None) -> str:
-    """``n`` and the noun, plural unless n is 1: ``plural(1, "pair")`` -> '1 pair', ``plural(2, "pair")`` -> '2 pairs'.
-
-    >>> plural(1, "other explanation"), plural(3, "line")
-    ('1 other explanation', '3 lines')
-    """
-    return f"{n} {noun if n == 1 else (many or noun + 's')}"
 
 
 _KIND_WORDS = {"euler": "Euler angles", "rotation-vector": "a rotation vector", "quaternion": "a quaternion",
