@@ -772,10 +772,16 @@ class StreamAlignment:
                          + f", cost {e.cost:.4g}{' (near tie)' if e.near_tie else ''}: {e.sentence}")
             for s in e.same:
                 lines.append(f"     same mistake written another way: {s}")
-            for s, w in e.mount_only:
-                lines.append(f"     fits exactly as well with another mount: {s} ({w})")
-            for s, w in e.separable:
-                lines.append(f"     nearly as well: {s} -- {w}")
+            # every tie of the first explanation; below it, the first two of each kind (the rest in as_dict())
+            shown = MEMBERS_SHOWN if e.rank == 1 else 2
+            for label, members in (("fits exactly as well with another mount", e.mount_only),
+                                   ("nearly as well", e.separable)):
+                for s, w in members[:shown]:
+                    lines.append(f"     {label}: {s} ({w})" if label.startswith("fits") else f"     {label}: {s} -- {w}")
+                if len(members) > shown:
+                    lines.append(f"     ... and {plural(len(members) - shown, 'more reading')} that "
+                                 f"{'fit' if len(members) - shown > 1 else 'fits'} {label.split(' ', 1)[1]} (all in "
+                                 "as_dict() and --json)")
         lines.append("fix for B's numbers (logged_numbers: B's (N, n) array):\n" + self.best.code)
         return "\n".join(lines)
 
