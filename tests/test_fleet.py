@@ -20,6 +20,7 @@ from scipy.spatial.transform import Rotation, RotationSpline
 from posekit.analysis import check_trajectory_csv
 from posekit.analysis.fleet import (FLEET_COLUMNS, NoLogsFoundError, check_logs, find_logs)
 from posekit.analysis.trajectory import FINDINGS
+from posekit.core import compiled
 from posekit.io.logs import MissingPackageError, TrajectoryInputError
 
 pd = pytest.importorskip("pandas")
@@ -70,9 +71,10 @@ def fleet(tmp_path_factory):
 def test_a_dask_run_over_20_files_equals_the_serial_run(fleet):
     folder, made = fleet
     serial = check_logs(folder, scheduler="serial", rate_limit=50.0)
-    arrow_threads = pa.cpu_count()
+    arrow_threads, loop_threads = pa.cpu_count(), compiled.thread_count()
     threads = check_logs(folder, scheduler="threads", workers=2, rate_limit=50.0)
     assert pa.cpu_count() == arrow_threads                 # pyarrow's pool, set to one thread for the run, is back
+    assert compiled.thread_count() == loop_threads         # and posekit's compiled loops' split
     assert serial.attrs["scheduler"] == "serial" and threads.attrs["scheduler"] == "dask threads, 2 workers"
     assert threads.equals(serial) and list(threads.columns) == list(FLEET_COLUMNS)
     assert serial["file"].unique().tolist() == sorted(made)             # every file, in order

@@ -254,3 +254,23 @@ def test_euler_kernel_for_large_and_edge_angles(seq, intrinsic):
         with compiled.use(route):
             got = rot.matrix_of_euler(angles, seq, intrinsic)
         assert np.max(np.abs(got - want)) <= 4e-15, route
+
+
+def test_thread_split_can_be_narrowed_for_a_block_and_is_restored():
+    """compiled.threads(n): the split of large batches within a block (callers that are parallel
+    themselves); the results do not depend on it (the same bits as the default split)."""
+    rng = np.random.default_rng(7)
+    q = rng.normal(size=(compiled.PARALLEL_ROWS * 2 + 5, 4))
+    q /= np.linalg.norm(q, axis=1, keepdims=True)
+    before = compiled.thread_count()
+    whole = pk.read_rotation(q, "quaternion")
+    with compiled.threads(1):
+        assert compiled.thread_count() == 1
+        one = pk.read_rotation(q, "quaternion")
+    assert compiled.thread_count() == before
+    np.testing.assert_array_equal(one, whole)
+    for bad in (0, -1, 1.5, True, "2"):
+        with pytest.raises(E.PoseInputError, match="whole number"):
+            with compiled.threads(bad):
+                pass
+    assert compiled.thread_count() == before

@@ -43,6 +43,7 @@ import time
 
 from ..core.errors import PoseInputError, excerpt, plural, summarise
 from ..io.limits import LOG_LIMIT
+from ..core import compiled
 from ..io.logs import MissingPackageError, TrajectoryInputError, _pyarrow
 from .trajectory import _CHECK_OPTIONS, check_trajectory_csv
 
@@ -264,21 +265,25 @@ def _on_local_dask(files, options, scheduler, workers, progress):
 
 @contextlib.contextmanager
 def _one_arrow_thread(wanted: bool):
-    """While files are read side by side in threads, pyarrow reads each on one thread (restored after).
+    """While files are read side by side in threads, pyarrow and posekit's compiled loops work on one
+    thread each (restored after).
 
     The files are the parallel unit then; pyarrow's own pool splitting each file as well
     costs about a tenth more processor time for the same work (``benchmarks/bench_fleet.py``).
     """
-    pa = _pyarrow() if wanted else None
-    if pa is None:
+    if not wanted:
         yield
         return
-    before = pa.cpu_count()
-    pa.set_cpu_count(1)
+    pa = _pyarrow()
+    before = pa.cpu_count() if pa is not None else None
+    if pa is not None:
+        pa.set_cpu_count(1)
     try:
-        yield
+        with compiled.threads(1):  # posekit's compiled loops likewise: one file, one thread
+            yield
     finally:
-        pa.set_cpu_count(before)
+        if pa is not None:
+            pa.set_cpu_count(before)
 
 
 def _on_cluster(files, options, address, progress):

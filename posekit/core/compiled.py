@@ -88,6 +88,33 @@ def _executor():
         return _pool
 
 
+@contextlib.contextmanager
+def threads(count: int):
+    """Within the block, large batches are split over ``count`` threads at most (process-wide).
+
+    For callers that are parallel themselves (several files checked side by side on threads):
+    the loops then stay on the calling thread instead of each call splitting again.
+
+    >>> with threads(1):
+    ...     thread_count()
+    1
+    """
+    global _threads
+    if isinstance(count, bool) or not isinstance(count, int) or count < 1:
+        raise PoseInputError(f"threads: got {count!r}; accepted: a whole number >= 1")
+    before = _threads
+    _threads = count
+    try:
+        yield
+    finally:
+        _threads = before
+
+
+def thread_count() -> int:
+    """How many threads a large batch is split over now (``POSEKIT_THREADS``, or :func:`threads`)."""
+    return _threads
+
+
 def _forget_pool_in_child() -> None:
     """A forked child has none of the parent's threads: start a fresh pool there when needed."""
     global _pool, _pool_lock
