@@ -813,17 +813,19 @@ LABEL_KEYS = ("times_a", "values_a", "reading_a", "times_b", "values_b", "readin
               "min_overlap")
 
 
-def _labels(labels) -> dict:
-    words = {k: k for k in LABEL_KEYS}
+def _labels(labels, keys=LABEL_KEYS, error=None) -> dict:
+    """The words messages use for each input: its own name unless ``labels`` gives other words."""
+    error = error or AlignmentError
+    words = {k: k for k in keys}
     if labels is None:
         return words
     if not isinstance(labels, Mapping):
-        raise AlignmentError(f"labels: got {summarise(labels, 40)}; accepted: a mapping from any of "
-                             f"{', '.join(LABEL_KEYS)} to the words messages should use")
+        raise error(f"labels: got {summarise(labels, 40)}; accepted: a mapping from any of "
+                    f"{', '.join(keys)} to the words messages should use")
     for k, v in labels.items():
         if k not in words or not isinstance(v, str) or not v.strip():
-            raise AlignmentError(f"labels: got {summarise(k, 30)}: {summarise(v, 30)}; accepted: keys "
-                                 f"{', '.join(LABEL_KEYS)}, each with non-blank text")
+            raise error(f"labels: got {summarise(k, 30)}: {summarise(v, 30)}; accepted: keys "
+                        f"{', '.join(keys)}, each with non-blank text")
         words[k] = v
     return words
 
@@ -1565,18 +1567,7 @@ class StreamLog:
 
 
 def _log_words(labels) -> dict:
-    words = {"source": "source", "time_column": "time_column", "value_columns": "value_columns"}
-    if labels is None:
-        return words
-    if not isinstance(labels, Mapping):
-        raise StreamLogError(f"labels: got {summarise(labels, 40)}; accepted: a mapping from any of "
-                             f"{', '.join(LOG_LABEL_KEYS)} to the words messages should use")
-    for k, v in labels.items():
-        if k not in words or not isinstance(v, str) or not v.strip():
-            raise StreamLogError(f"labels: got {summarise(k, 30)}: {summarise(v, 30)}; accepted: keys "
-                                 f"{', '.join(LOG_LABEL_KEYS)}, each with non-blank text")
-        words[k] = v
-    return words
+    return _labels(labels, LOG_LABEL_KEYS, StreamLogError)
 
 
 def _plain_name(name: str) -> str:
