@@ -191,7 +191,11 @@ def write_atomic(path, content, *, what: str = "file") -> Path:
                              "create it first")
     if path.is_dir():
         raise FileWriteError(f"{what} {str(path)!r} not written: that path is a folder; give a file name")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
+    try:  # a hidden temporary beside the target; its name is kept short, so any valid target name fits
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name[:64]}.", suffix=".part", dir=folder)
+    except OSError as exc:
+        raise FileWriteError(f"{what} {str(path)!r} not written ({exc.strerror or exc}); any earlier file is "
+                             "untouched; accepted: a folder you can write") from None
     try:
         with io.open(fd, "wb", closefd=True) as fh:
             fh.write(data)
