@@ -57,10 +57,10 @@ DEFAULT_PALETTE = "colour-blind"
 FRAME_UIDS = {"parent": "parent", "frame": "frame", "body": "body", "step1": "step-1", "step2": "step-2"}
 TIP_SYMBOLS = ("diamond", "square", "circle")
 LETTERS = ("x", "y", "z")
-#: Text of a point that carries no letter in a 2D trace: a space, not "" -- plotly.js 4 drops the
-#: letters of a trace whose other points have empty text when the trace is restyled (its text join
-#: is keyed by point; plotly/plotly.js issue 5360 and its suggested workaround), seen in the planar
-#: explorer as tips losing their x after every move.
+#: Text of a point that carries no letter in a 2D trace: a space, not "".  plotly.js (4.1, the
+#: version plotly.py ships here) drops the letters of a trace whose other points have empty text
+#: when the trace is restyled: the planar explorer's tips lost their x after every move
+#: (tests/browser/test_planar_browser.py checks every letter after moves).
 BLANK = " "
 SCENE_RANGE = 1.6
 
