@@ -415,6 +415,23 @@ class _Grid:
     words: dict
 
 
+def _speed_grid(mid_a, speed_a, dt_a: float, times_b, max_offset, min_overlap, words) -> "_Grid":
+    """A's angular speeds on the grid B's speeds are correlated on: the finer of the two sample steps
+    (widened to stay below :data:`FINE_SAMPLES`), block-averaged to below :data:`COARSE_SAMPLES`
+    for the coarse search."""
+    dt_b = float(np.median(np.diff(times_b)))
+    h = min(dt_a, dt_b)
+    span_a = float(mid_a[-1] - mid_a[0])
+    span_b = float(times_b[-1] - times_b[0])
+    longest = max(span_a, span_b)
+    if longest / h > FINE_SAMPLES:
+        h = longest / FINE_SAMPLES
+    a_fine = _grid_of(mid_a, speed_a, float(mid_a[0]), h, span_a)
+    block = max(1, int(math.ceil(max(len(a_fine), span_b / h + 1) / COARSE_SAMPLES)))
+    return _Grid(a_fine, float(mid_a[0]), h, block, _block_mean(a_fine, block) if block > 1 else a_fine,
+                 max(dt_a, dt_b), max_offset, min_overlap, words)
+
+
 def _grid_of(mid, speed, start, h, span):
     n = int(math.floor(span / h)) + 1
     return np.interp(start + h * np.arange(n), mid, speed)
@@ -1353,16 +1370,8 @@ def align_streams(times_a, values_a, reading_a, times_b, values_b, reading_b, *,
             f"stream A's angular speed hardly varies (mean {math.degrees(float(np.mean(speed_a))):.4g} deg/s, "
             f"spread {math.degrees(float(np.std(speed_a))):.3g} deg/s): the clock offset cannot be found from "
             "it; record a motion that speeds up and slows down (start and stop)")
-    h = min(dt_a, dt_b)
-    span_a = float(mid_a[-1] - mid_a[0])
-    span_b = float(tb[-1] - tb[0])
-    longest = max(span_a, span_b)
-    if longest / h > FINE_SAMPLES:
-        h = longest / FINE_SAMPLES
-    a_fine = _grid_of(mid_a, speed_a, float(mid_a[0]), h, span_a)
-    block = max(1, int(math.ceil(max(len(a_fine), span_b / h + 1) / COARSE_SAMPLES)))
-    grid = _Grid(a_fine, float(mid_a[0]), h, block, _block_mean(a_fine, block) if block > 1 else a_fine, window,
-                 max_offset, min_overlap, words)
+    grid = _speed_grid(mid_a, speed_a, dt_a, tb, max_offset, min_overlap, words)
+    h, block = grid.h, grid.block
 
     # ranking on the coarse grid needs about one speed per coarse cell: read only the rows those need
     every = max(1, int(block * h / dt_b))

@@ -57,10 +57,9 @@ from ..core.errors import ConventionError, PoseInputError, WrongShapeError, exce
 from ..explain import (PRIOR_WEIGHT, REMAPS, STATED_COST, Reading, Slip, angles_between, describe_remap, fix_code,
                        readings_of, read_numbers, remap_cost, sentence, write_numbers)
 from ..io.words import DescribedMotion, DescriptionError, read_motion, turn_words
-from .alignment import (COARSE_SAMPLES, DEFAULT_PAIR_ANGLE, FINE_SAMPLES, MEMBERS_SHOWN, OFFSET_METHOD, TimeOffset,
-                        _Grid, _block_mean, _checked_stream, _checked_times, _encode, _estimate_offset, _grid_of,
-                        _key_samples, _labels, _log, _motion_of, _read_reference, _relations, angular_speeds,
-                        park_martin_rotation)
+from .alignment import (DEFAULT_PAIR_ANGLE, MEMBERS_SHOWN, OFFSET_METHOD, TimeOffset, _checked_stream, _checked_times,
+                        _encode, _estimate_offset, _key_samples, _labels, _log, _motion_of, _read_reference,
+                        _relations, _speed_grid, angular_speeds, park_martin_rotation)
 
 __all__ = ["KnownMotionError", "StillLogError", "RateStreamError", "RateReadingError", "TurnMeasure", "Tie",
            "MotionExplanation", "MotionDiagnosis", "RateReading", "RateExplanation", "RateDiagnosis",
@@ -1369,24 +1368,6 @@ class RateDiagnosis:
                 "reading": self.reading.as_dict(), "explanations": [e.as_dict() for e in self.explanations]}
 
 
-def _speed_grid(mid_o, speed_o, dt_o, times_r, max_offset, min_overlap) -> _Grid:
-    """The speed grid :func:`~posekit.analysis.alignment.align_streams` builds (its recipe and constants), with
-    the orientation as stream A and the rates as stream B."""
-    dt_r = float(np.median(np.diff(times_r)))
-    h = min(dt_o, dt_r)
-    span_o = float(mid_o[-1] - mid_o[0])
-    span_r = float(times_r[-1] - times_r[0])
-    longest = max(span_o, span_r)
-    if longest / h > FINE_SAMPLES:
-        h = longest / FINE_SAMPLES
-    a_fine = _grid_of(mid_o, speed_o, float(mid_o[0]), h, span_o)
-    block = max(1, int(math.ceil(max(len(a_fine), span_r / h + 1) / COARSE_SAMPLES)))
-    words = _labels({"max_offset": "max_offset", "min_overlap": "min_overlap"})
-    return _Grid(a=a_fine, start_a=float(mid_o[0]), h=h, block=block,
-                 a_coarse=_block_mean(a_fine, block) if block > 1 else a_fine, window=max(dt_o, dt_r),
-                 max_offset=max_offset, min_overlap=min_overlap, words=words)
-
-
 def _rate_separating(lead: RateReading, rival: RateReading, attitudes):
     """The turn about a body axis whose rates, logged under ``lead``, ``rival`` reads otherwise (at the first
     attitude where one does)."""
@@ -1474,7 +1455,8 @@ def explain_rates(times_rates, rates, times_orientation, values, reading=None, *
                 f"values: the orientation's angular speed hardly varies (mean "
                 f"{math.degrees(float(np.mean(speed_o))):.4g} deg/s): the clock offset cannot be found from it; "
                 "record a motion that speeds up and slows down, or give offset= (0 when both streams share one clock)")
-        grid = _speed_grid(mid_o, speed_o, dt_o, tr, max_offset, min_overlap)
+        grid = _speed_grid(mid_o, speed_o, dt_o, tr, max_offset, min_overlap,
+                           _labels({"max_offset": "max_offset", "min_overlap": "min_overlap"}))
         time_offset = _estimate_offset(grid, tr, speed_raw, refine=True)   # Pearson's r: the unit does not matter
         offset = time_offset.offset
         if time_offset.ambiguous:
