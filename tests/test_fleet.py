@@ -73,7 +73,7 @@ def test_a_dask_run_over_20_files_equals_the_serial_run(fleet):
     serial = check_logs(folder, scheduler="serial", rate_limit=50.0)
     arrow_threads, loop_threads = pa.cpu_count(), compiled.thread_count()
     threads = check_logs(folder, scheduler="threads", workers=2, rate_limit=50.0)
-    assert pa.cpu_count() == arrow_threads                 # pyarrow's pool, set to one thread for the run, is back
+    assert pa.cpu_count() == arrow_threads                 # pyarrow's pool is not touched (reads run on the workers)
     assert compiled.thread_count() == loop_threads         # and posekit's compiled loops' split
     assert serial.attrs["scheduler"] == "serial" and threads.attrs["scheduler"] == "dask threads, 2 workers"
     assert threads.equals(serial) and list(threads.columns) == list(FLEET_COLUMNS)

@@ -297,6 +297,34 @@ def test_parquet_and_csv_readers_agree_on_generated_logs(tmp_path):
             assert np.array_equal(a.findings[name].rows, b.findings[name].rows)
 
 
+def test_reads_on_the_calling_threads_give_the_same_tables(tmp_path):
+    """Logs read side by side on two threads, pyarrow on each caller's thread (as the fleet check
+    reads them), equal the Python reader's tables; pyarrow's own pool size is not touched."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    texts = []
+    names = sorted(FAULTS)
+    for seed in range(6):
+        rng = np.random.default_rng(300 + seed)
+        n = int(rng.integers(2000, 6000))
+        faults = [(int(r), names[int(rng.integers(len(names)))]) for r in rng.choice(n, size=5, replace=False)]
+        texts.append(generated_log(n, seed, faults, comments=seed % 2 == 0))
+    t, q = smooth_motion(30_000, 9)
+    parquet = write_parquet(tmp_path / "side.parquet", {"time": t, "qw": q[:, 0], "qx": q[:, 1], "qy": q[:, 2],
+                                                        "qz": q[:, 3]})
+    pool_size = pa.cpu_count()
+    python = [read_trajectory_csv(io.StringIO(text), reader="python") for text in texts]
+    with logs.reads_on_caller(), ThreadPoolExecutor(2) as workers:
+        assert logs._arrow_pool is False
+        arrow = list(workers.map(lambda text: read_trajectory_csv(io.StringIO(text), reader="pyarrow"), texts * 2))
+        from_parquet = list(workers.map(read_trajectory_csv, [parquet] * 4))
+    assert logs._arrow_pool is True and pa.cpu_count() == pool_size
+    for i, table in enumerate(arrow):
+        assert_same_tables(python[i % len(texts)], table)
+    for table in from_parquet:                                         # the numbers written, from scipy's spline
+        assert np.array_equal(table.times, t) and np.array_equal(table.values, q)
+
+
 def test_parquet_column_types_numbers_text_and_times(tmp_path):
     n = 50
     t, q = smooth_motion(n, 4)

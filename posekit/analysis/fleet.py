@@ -18,8 +18,9 @@ Where the work runs (``scheduler=``):
   processes: the reading (pyarrow) and the scan (numpy, posekit's compiled loops) release
   the GIL, and worker processes would each pay for starting Python and importing numpy,
   scipy and pyarrow (``benchmarks/bench_fleet.py`` measures both).  While a threaded run
-  lasts, pyarrow's own thread pool is set to one thread (the files are the parallel unit)
-  and restored after;
+  lasts, each file is read on its worker's thread rather than on pyarrow's pool, and
+  posekit's compiled loops do not split it further (the files are the parallel unit);
+  pyarrow's own settings are not touched;
 - ``"threads"`` or ``"processes"``: that local Dask scheduler, ``workers`` of them (default:
   the number of processors);
 - ``"serial"``: one file after another in this thread, without Dask;
@@ -44,7 +45,7 @@ import time
 from ..core.errors import PoseInputError, excerpt, plural, summarise
 from ..io.limits import LOG_LIMIT
 from ..core import compiled
-from ..io.logs import MissingPackageError, TrajectoryInputError, _pyarrow
+from ..io.logs import MissingPackageError, TrajectoryInputError, reads_on_caller
 from .trajectory import _CHECK_OPTIONS, check_trajectory_csv
 
 __all__ = ["check_logs", "find_logs", "FLEET_COLUMNS", "LOG_SUFFIXES", "SCHEDULERS", "NoLogsFoundError",
@@ -265,25 +266,19 @@ def _on_local_dask(files, options, scheduler, workers, progress):
 
 @contextlib.contextmanager
 def _one_arrow_thread(wanted: bool):
-    """While files are read side by side in threads, pyarrow and posekit's compiled loops work on one
-    thread each (restored after).
+    """While files are read side by side in threads, each file is read and scanned on its own thread:
+    pyarrow reads on the calling thread and posekit's compiled loops do not split (both restored after).
 
-    The files are the parallel unit then; pyarrow's own pool splitting each file as well
-    costs about a tenth more processor time for the same work (``benchmarks/bench_fleet.py``).
+    The files are the parallel unit then.  pyarrow's pool is one per process, so reads sent to it
+    from two threads wait for each other: the reading phase of 20 logs took 0.74-0.82 s on two
+    threads against 0.84-1.0 s on one, and 0.49-0.52 s on the calling threads
+    (``benchmarks/bench_fleet.py`` prints the whole run's figures).
     """
     if not wanted:
         yield
         return
-    pa = _pyarrow()
-    before = pa.cpu_count() if pa is not None else None
-    if pa is not None:
-        pa.set_cpu_count(1)
-    try:
-        with compiled.threads(1):  # posekit's compiled loops likewise: one file, one thread
-            yield
-    finally:
-        if pa is not None:
-            pa.set_cpu_count(before)
+    with reads_on_caller(), compiled.threads(1):
+        yield
 
 
 def _on_cluster(files, options, address, progress):

@@ -58,6 +58,7 @@ from __future__ import annotations
 
 import bisect
 import codecs
+import contextlib
 import csv
 import io
 import os
@@ -125,6 +126,34 @@ def _pyarrow():
     except ImportError:
         return None
     return pyarrow
+
+
+#: Whether pyarrow reads on its own thread pool (True) or on the calling thread (see :func:`reads_on_caller`).
+_arrow_pool = True
+
+
+@contextlib.contextmanager
+def reads_on_caller():
+    """Within the block, pyarrow reads each CSV or Parquet log on the thread that asks (process-wide).
+
+    For callers that read several logs side by side on threads: pyarrow's pool is one per
+    process, so with the pool each read would wait for the others' (``benchmarks/bench_fleet.py``
+    measures both).  pyarrow's own settings are not touched.
+
+    >>> from posekit.io import logs
+    >>> with reads_on_caller():
+    ...     logs._arrow_pool
+    False
+    >>> logs._arrow_pool
+    True
+    """
+    global _arrow_pool
+    before = _arrow_pool
+    _arrow_pool = False
+    try:
+        yield
+    finally:
+        _arrow_pool = before
 
 
 def _missing_pyarrow(what: str) -> MissingPackageError:
@@ -466,7 +495,7 @@ class LogTable:
         try:
             table = pa.csv.read_csv(
                 pa.py_buffer(self.rows.joined(picked)),
-                read_options=pa.csv.ReadOptions(column_names=names),
+                read_options=pa.csv.ReadOptions(column_names=names, use_threads=_arrow_pool),
                 parse_options=pa.csv.ParseOptions(delimiter=self.delimiter, quote_char=False, escape_char=False,
                                                   double_quote=False, newlines_in_values=False,
                                                   ignore_empty_lines=False),
@@ -812,7 +841,8 @@ class _ParquetColumns:
         wanted = [names[c] for c in sorted(set(cols))]
         unique = len(set(names)) == len(names) and all("." not in w for w in wanted)
         try:
-            table = self.pfile.read(columns=wanted) if unique else self.pfile.read()
+            table = (self.pfile.read(columns=wanted, use_threads=_arrow_pool) if unique
+                     else self.pfile.read(use_threads=_arrow_pool))
         except (pa.ArrowException, OSError, ValueError) as exc:
             raise LogReadError(f"Parquet file {self.source}: columns {names_words(wanted)} cannot be read: "
                                f"{excerpt(str(exc), 200)}; accepted: an undamaged Parquet file") from None
