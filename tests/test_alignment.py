@@ -22,8 +22,9 @@ from scipy.interpolate import CubicSpline
 from scipy.spatial.transform import Rotation, RotationSpline
 
 from posekit.analysis.alignment import (DegenerateMotionError, NoOverlapError, ReferenceStreamError,
-                                        StreamAlignment, StreamTimesError, _encode, align_streams, park_martin_rotation,
+                                        StreamAlignment, StreamTimesError, align_streams, park_martin_rotation,
                                         relative_angles, solve_mount)
+from posekit.analysis.streams import encode_slip
 from posekit.core.errors import PoseInputError, WrongShapeError
 from posekit.explain import NAMED_REMAPS, REMAPS, Slip, read_numbers, stated_reading
 
@@ -415,7 +416,7 @@ def test_encode_is_undone_by_slip_decode(count, text):
         for scale, frame in ((1.0, "parent"), (1e-3, "child-axes"), (1e3, "inverse-translation")):
             slip = Slip(stated, true, False, 0, q, scale if t is not None else 1.0,
                         frame if t is not None else "parent")
-            r2, t2 = slip.decode(_encode(slip, r, t))
+            r2, t2 = slip.decode(encode_slip(slip, r, t))
             assert np.allclose(r2, r, atol=1e-12)
             assert t is None or np.allclose(t2, t, atol=1e-9)
 
@@ -488,7 +489,7 @@ def test_the_correlation_curve_peaks_at_the_reported_offset(seed):
 
 def test_a_long_stream_keeps_the_coarse_curve_and_the_fine_lags_near_its_peak():
     """Longer than COARSE_SAMPLES: the whole range is searched on block means, the peak on the full grid."""
-    from posekit.analysis.alignment import COARSE_SAMPLES
+    from posekit.analysis.streams import COARSE_SAMPLES
 
     rng = np.random.default_rng(91)
     duration = 200.0

@@ -37,7 +37,7 @@ remap of the world frame (ENU/NED, its handedness).
 
 **Rates** (:func:`explain_rates`).  A rate stream (a gyro's three numbers per sample) and
 an orientation stream of the same body: the clock offset from the angular speeds (the
-cross-correlation of :mod:`posekit.analysis.alignment`), then the rates integrated in numpy
+cross-correlation of :mod:`posekit.analysis.streams`), then the rates integrated in numpy
 (:func:`integrate_rates`) between key samples and compared with the orientation's relative
 rotations, over every rate reading: body or world frame, radians or degrees per second, and
 the 48 signed axis permutations (sign flips, axis order, handedness).
@@ -55,11 +55,11 @@ from ..core import rotation as rot
 from ..core.checks import as_numbers, checked_count, checked_matrix, checked_tolerance
 from ..core.errors import ConventionError, PoseInputError, WrongShapeError, excerpt, summarise
 from ..explain import (PRIOR_WEIGHT, REMAPS, STATED_COST, Reading, Slip, angles_between, describe_remap, fix_code,
-                       readings_of, read_numbers, remap_cost, sentence, write_numbers)
+                       readings_of, read_numbers, relations, remap_cost, sentence, write_numbers)
 from ..io.words import DescribedMotion, DescriptionError, read_motion, turn_words
-from .alignment import (DEFAULT_PAIR_ANGLE, MEMBERS_SHOWN, OFFSET_METHOD, TimeOffset, _checked_stream, _checked_times,
-                        _encode, _estimate_offset, _key_samples, _labels, _log, _motion_of, _read_reference,
-                        _relations, _speed_grid, angular_speeds, park_martin_rotation)
+from .streams import (DEFAULT_PAIR_ANGLE, MEMBERS_SHOWN, OFFSET_METHOD, TimeOffset, angular_speeds, checked_stream,
+                      checked_times, encode_slip, estimate_offset, key_samples, motion_of, park_martin_rotation,
+                      read_reference, rotation_vectors, speed_grid)
 
 __all__ = ["KnownMotionError", "StillLogError", "RateStreamError", "RateReadingError", "TurnMeasure", "Tie",
            "MotionExplanation", "MotionDiagnosis", "RateReading", "RateExplanation", "RateDiagnosis",
@@ -126,7 +126,7 @@ def turning_path(rotations) -> np.ndarray:
     [0.0, 0.0, 6.283185307]
     """
     r = np.asarray(rotations, dtype=np.float64)
-    inc = _log(np.swapaxes(r[:-1], -1, -2) @ r[1:])
+    inc = rotation_vectors(np.swapaxes(r[:-1], -1, -2) @ r[1:])
     return np.concatenate([np.zeros((1, 3)), np.cumsum(inc, axis=0)])
 
 
@@ -654,7 +654,7 @@ def _score(stated: Reading, paths, turns: _Turns, mount, tol_x) -> list[_Candida
     a0, d0 = stated.convention.action, stated.convention.direction
     for reading, (path_pair, handed) in paths:
         by_t = dict(path_pair)
-        for action, direction, transposed in _relations(stated):
+        for action, direction, transposed, _ in relations(stated):
             flips = (action != a0) + (direction != d0) + int(transposed)
             path = by_t[bool(flips % 2)]
             true = reading.with_fields(action=action, direction=direction)
@@ -712,7 +712,7 @@ def _constant_apart(a: Slip, b: Slip, probe):
         rel_b = np.swapaxes(rb[:1], -1, -2) @ rb[1:]
         if not (np.all(np.isfinite(rel_a)) and np.all(np.isfinite(rel_b))):
             return None
-        x = park_martin_rotation(_log(rel_b), _log(rel_a))          # rel_b = X rel_a X^T
+        x = park_martin_rotation(rotation_vectors(rel_b), rotation_vectors(rel_a))          # rel_b = X rel_a X^T
         gap = angles_between(x @ rel_a @ x.T, rel_b)
     return x if np.all(gap <= 1e-6) else None
 
@@ -750,7 +750,7 @@ def _simulated_residual(lead: _Candidate, rival: Slip, start, turn_list, turns: 
     m = lead.mount
     truth = start @ m.T @ body @ m
     try:
-        numbers = _encode(lead.slip, truth, None)
+        numbers = encode_slip(lead.slip, truth, None)
     except PoseInputError:
         return None
     with np.errstate(all="ignore"):
@@ -927,8 +927,8 @@ def explain_known_motion(times, values, reading=None, description=None, *, kind:
     else:
         raise DescriptionError(f"description: got {type(description).__name__}; expected text such as 'tilted nose "
                                "up about 90 degrees, then back' (posekit.io.words.read_motion)")
-    arr, stated = _checked_stream(values, "values", reading, kind, "reading")
-    t = _checked_times(times, "times", len(arr))
+    arr, stated = checked_stream(values, "values", reading, kind, "reading")
+    t = checked_times(times, "times", len(arr))
     n = len(arr)
     k = len(motion.turns)
     turns = _turns_of(motion, tol_a)
@@ -1387,7 +1387,7 @@ def _checked_rates(rates, times_rates):
         raise RateStreamError(f"rates: got shape {arr.shape}; expected (N, 3): three angular rates per sample")
     if len(arr) < 20:
         raise RateStreamError(f"rates: got {len(arr)} samples; expected at least 20 (a stretch of motion)")
-    return arr, _checked_times(times_rates, "times_rates", len(arr))
+    return arr, checked_times(times_rates, "times_rates", len(arr))
 
 
 def explain_rates(times_rates, rates, times_orientation, values, reading=None, *, rates_reading=None,
@@ -1438,9 +1438,9 @@ def explain_rates(times_rates, rates, times_orientation, values, reading=None, *
             raise WrongShapeError(f"offset: got shape {off.shape}; expected one number of seconds (or None)")
         offset = float(off)
     w_log, tr = _checked_rates(rates, times_rates)
-    arr, stated_o = _checked_stream(values, "values", reading, kind, "reading")
-    to = _checked_times(times_orientation, "times_orientation", len(arr))
-    r_o, _ = _read_reference(stated_o, arr, "values")
+    arr, stated_o = checked_stream(values, "values", reading, kind, "reading")
+    to = checked_times(times_orientation, "times_orientation", len(arr))
+    r_o, _ = read_reference(stated_o, arr, "values")
     notes: list[str] = []
 
     # --- the clock offset (angular speeds do not depend on frame, sign or axis order) ------------
@@ -1455,9 +1455,9 @@ def explain_rates(times_rates, rates, times_orientation, values, reading=None, *
                 f"values: the orientation's angular speed hardly varies (mean "
                 f"{math.degrees(float(np.mean(speed_o))):.4g} deg/s): the clock offset cannot be found from it; "
                 "record a motion that speeds up and slows down, or give offset= (0 when both streams share one clock)")
-        grid = _speed_grid(mid_o, speed_o, dt_o, tr, max_offset, min_overlap,
-                           _labels({"max_offset": "max_offset", "min_overlap": "min_overlap"}))
-        time_offset = _estimate_offset(grid, tr, speed_raw, refine=True)   # Pearson's r: the unit does not matter
+        grid = speed_grid(mid_o, speed_o, dt_o, tr, max_offset, min_overlap,
+                           {"max_offset": "max_offset", "min_overlap": "min_overlap"})
+        time_offset = estimate_offset(grid, tr, speed_raw, refine=True)   # Pearson's r: the unit does not matter
         offset = time_offset.offset
         if time_offset.ambiguous:
             notes.append(f"the speed correlation has a second peak ({time_offset.second_peak:.4f} against "
@@ -1476,12 +1476,12 @@ def explain_rates(times_rates, rates, times_orientation, values, reading=None, *
     q_o = rot.quaternion_of_matrix(r_o)
     step_ang = angles_between(r_o[:-1], r_o[1:])
     cum_o = np.concatenate([[0.0], np.cumsum(step_ang)])
-    keys = _key_samples(to, cum_o, q_o, None, tr, offset, pair_angle, max_pairs)
+    keys = key_samples(to, cum_o, q_o, None, tr, offset, pair_angle, max_pairs)
     if keys is None:
         raise StillLogError(f"times_rates: shifted by the offset ({offset:+.6g} s), fewer than 3 rate samples fall "
                             "inside the orientation stream's time span; accepted: two streams of one stretch of motion")
     rows, ra = keys["rows"], keys["ra"]
-    total, spread, _ = _motion_of(keys["alpha"])
+    total, spread, _ = motion_of(keys["alpha"])
     if total < 10.0 * tol:
         raise StillLogError(f"values: the orientation turned only {math.degrees(total):.3g} degrees over the rates' "
                             "span: too little to judge the rates; record a motion of some tens of degrees")
@@ -1549,7 +1549,7 @@ def explain_rates(times_rates, rates, times_orientation, values, reading=None, *
         b_frame, b_unit = best.reading.frame, best.reading.unit
         fwd, rev = products[b_unit]
         integ = fwd if b_frame == "body" else rev
-        x = park_martin_rotation(_log(delta[b_frame]), _log(integ))
+        x = park_martin_rotation(rotation_vectors(delta[b_frame]), rotation_vectors(integ))
         gap = angles_between(np.broadcast_to(delta[b_frame], integ.shape), x @ integ @ x.T)
         rms_x = float(np.sqrt(np.mean(gap ** 2)))
         if rms_x <= tol:

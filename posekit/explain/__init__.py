@@ -15,12 +15,12 @@ the frame graph's loop fixes and the trajectory checks.
 from .readings import COUNTS, FIELDS_OF_KIND, KINDS, Reading, read_numbers, readings_of, stated_fields, \
     stated_reading, write_numbers
 from .render import fix_code, sentence, slip_parts
-from .scorer import EQUIVALENT, Candidate, ExpectedSide, Group, Hypothesis, Ranking, angles_between, score
+from .scorer import EQUIVALENT, Candidate, ExpectedSide, Group, Hypothesis, Ranking, angles_between, relations, score
 from .slips import (FAMILY_ORDER, LENGTH_SCALES, NAMED_REMAPS, PRIOR_WEIGHT, PROPER_REMAPS, REMAPS, STATED_COST,
                     TRANSLATION_FRAMES, Slip, describe_remap, remap_cost)
 
 __all__ = ["COUNTS", "FIELDS_OF_KIND", "KINDS", "Reading", "read_numbers", "readings_of", "stated_fields",
            "stated_reading", "write_numbers", "fix_code", "sentence", "slip_parts", "EQUIVALENT", "Candidate",
-           "ExpectedSide", "Group", "Hypothesis", "Ranking", "angles_between", "score", "FAMILY_ORDER",
+           "ExpectedSide", "Group", "Hypothesis", "Ranking", "angles_between", "relations", "score", "FAMILY_ORDER",
            "LENGTH_SCALES", "NAMED_REMAPS", "PRIOR_WEIGHT", "PROPER_REMAPS", "REMAPS", "STATED_COST",
            "TRANSLATION_FRAMES", "Slip", "describe_remap", "remap_cost"]

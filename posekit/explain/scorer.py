@@ -137,7 +137,7 @@ def _flip(value: str, choices: tuple[str, str]) -> str:
     return choices[1] if value == choices[0] else choices[0]
 
 
-def _relations(stated: Reading):
+def relations(stated: Reading):
     """The four relations as (action, direction, transposed, deviations) relative to the stated reading:
     as stated; the rotation transposed (the ``action`` field of angles and quaternions, the block
     alone of a matrix); the ``direction`` flipped; both."""
@@ -254,7 +254,7 @@ def score(stated: Reading, candidates: list[Candidate], expected: list[ExpectedS
                               "side(s); expected at least one of each")
     remaps, pq_prior, pq_by_sign = _remap_tables(reflections)
     n_remap = len(remaps)
-    rels = _relations(stated)
+    rels = relations(stated)
     n_pairs = candidates[0].numbers.shape[0]
     raws = _raw_reads(candidates)
     has_t_obs = raws[0][1] is not None
