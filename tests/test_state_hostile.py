@@ -749,7 +749,10 @@ def _paths(node, here=()):
 @st.composite
 def mutated_texts(draw):
     data = json.loads(state_to_json(draw(valid_states())))
-    for _ in range(draw(st.integers(1, 3))):
+    # 0 edits too, so that states that load are always among the drawn ones: with 1-3 edits each,
+    # a run of the whole file in the mutation tool's copy of the project drew 300 texts and not
+    # one loaded (the examples drawn differ between runs there), and the test failed for no bug
+    for _ in range(draw(st.integers(0, 3))):
         paths = [p for p in _paths(data) if p]
         target = draw(st.sampled_from(paths))
         parent = data
