@@ -12,6 +12,7 @@ import errno
 import io
 import json
 import os
+import re
 from pathlib import Path
 
 import numpy as np
@@ -420,6 +421,92 @@ def test_dev_zero_is_refused_at_the_default_limits():
     assert "limit=" in str(err.value)
     with pytest.raises(InputTooLargeError, match="64 MiB"):
         read_report_state("/dev/zero")
+
+
+# --- too deep: where, on which line and column, against a plain character loop and the structure built --------
+
+def _first_too_deep(text: str) -> int:
+    """Index of the first bracket that opens level MAX_DEPTH + 1, by reading the text character by
+    character as JSON's grammar (RFC 8259) reads strings: a backslash escapes the next character."""
+    depth, inside, escaped = 0, False, False
+    for i, ch in enumerate(text):
+        if inside:
+            if escaped:
+                escaped = False
+            elif ch == "\\":
+                escaped = True
+            elif ch == '"':
+                inside = False
+        elif ch == '"':
+            inside = True
+        elif ch in "[{":
+            depth += 1
+            if depth > MAX_DEPTH:
+                return i
+        elif ch in "]}":
+            depth -= 1
+    return -1
+
+
+KEY_CHARS = st.characters(codec="ascii", categories=["L", "N", "P", "S", "Zs"])
+KEYS = st.one_of(st.from_regex(r"[a-z_][a-z0-9_]{0,8}", fullmatch=True), st.text(KEY_CHARS, min_size=0, max_size=12))
+SCALARS = st.one_of(st.integers(-9, 9), st.text(st.sampled_from('ab[]{}"\\ ,:'), max_size=6), st.none())
+
+
+@st.composite
+def too_deep_documents(draw):
+    """Notes holding a chain of containers deeper than MAX_DEPTH, with siblings before the chain's
+    entry at every level (strings full of brackets, quotes and backslashes; shallow containers
+    where they stay within the limit); returns (notes, the path to the container at level
+    MAX_DEPTH + 1 of the state text, written as the state messages write paths)."""
+    levels = MAX_DEPTH + draw(st.integers(1, 4))
+    steps = []
+    for level in range(2, levels + 2):               # the state's top-level object is level 1
+        sibling = SCALARS if level > MAX_DEPTH - 2 else st.one_of(
+            SCALARS, st.lists(SCALARS, max_size=2), st.dictionaries(KEYS, SCALARS, max_size=2))
+        if draw(st.booleans()):
+            steps.append(("list", draw(st.lists(sibling, max_size=3)), None))
+        else:
+            before = draw(st.dictionaries(KEYS, sibling, max_size=3))
+            key = draw(KEYS.filter(lambda k, b=before: k not in b))
+            steps.append(("dict", before, key))
+    node = []
+    for kind, before, key in reversed(steps):
+        node = [*before, node] if kind == "list" else {**before, key: node}
+    path = "notes"                                   # level 1 -> 2; then the chain's levels 2 .. MAX_DEPTH
+    for kind, before, key in steps[:MAX_DEPTH - 1]:
+        if kind == "list":
+            path += f"[{len(before)}]"
+        elif re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*", key):
+            path += f".{key}"
+        else:
+            path += "['" + key.replace("'", "\\'") + "']"
+    return node, path
+
+
+@settings(max_examples=80, deadline=None, derandomize=True, database=None,
+          suppress_health_check=[HealthCheck.too_slow])
+@given(too_deep_documents(), st.sampled_from([None, 0, 1, 3]), st.booleans())
+def test_too_deep_text_is_refused_at_the_container_the_structure_puts_there(document, indent, ascii_only):
+    node, path = document
+    text = json.dumps({"schema": "posekit-state", "notes": node}, indent=indent, ensure_ascii=ascii_only)
+    at = _first_too_deep(text)
+    assert at >= 0
+    with pytest.raises(StateFileError) as err:
+        state_from_json(text)
+    line, column = text.count("\n", 0, at) + 1, at - text.rfind("\n", 0, at)
+    assert err.value.path == path
+    assert f"nested more than {MAX_DEPTH} levels deep (line {line}, column {column})" in str(err.value)
+
+
+def test_text_exactly_as_deep_as_the_limit_passes_the_depth_check():
+    """MAX_DEPTH levels are read (and refused for what they hold); one more level is refused as too deep."""
+    for extra, too_deep in ((0, False), (1, True)):
+        n = MAX_DEPTH - 1 + extra                      # under the top-level object, which is level 1
+        text = '{"schema": "posekit-state", "x": ' + "[" * n + "]" * n + "}"
+        with pytest.raises(StateFileError) as err:
+            state_from_json(text)
+        assert ("nested more than" in str(err.value)) == too_deep, str(err.value)
 
 
 def test_the_limit_keyword_is_checked():
