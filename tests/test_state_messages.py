@@ -1,0 +1,222 @@
+"""The state reader and writer at their exact limits, and what each refusal says.
+
+A limit is checked at its edge: text, bytes, a file or a report exactly ``limit`` bytes long
+is read, one byte more is refused, and the message gives both sizes and the keyword to
+raise.  The sizes are counted here by Python (``len`` of the UTF-8 bytes, ``os.stat`` of the
+file written), the byte and offset of bad UTF-8 by ``bytes.index``, and the saved text is
+compared with Python's own ``json.dumps`` of what it holds.  Every message names the text,
+file or report it is about, as a user who gave several files needs.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import os
+
+import numpy as np
+import pytest
+from test_state_hostile import plain
+
+import posekit.widgets  # noqa: F401 - registers each widget's settings class (plain() uses them)
+from posekit.core.errors import WrongTypeError
+from posekit.io.limits import FileReadError, InputTooLargeError
+from posekit.io.settings import StateFileError
+from posekit.io.state import (REPORT_STATE_OPEN, State, load_state, read_report_state, save_state,
+                              state_from_json, state_to_json)
+
+
+def _state(name="camera mount"):
+    data = plain("explorer")
+    data["poses"][0]["name"] = name
+    return state_from_json(json.dumps(data))
+
+
+def _too_large_words(what, size, limit):
+    # every size in these tests is under 1 KiB, so both are written in bytes
+    assert size < 1024 and limit < 1024
+    return (f"{what} ({size} bytes) is larger than the limit of {limit} bytes. "
+            "Pass a larger limit= if it really is this large.")
+
+
+# --- limits at the edge --------------------------------------------------------------------------------------
+
+def _small_text(name="m"):
+    """A valid state's text, made as small as the checks allow (under 1 KiB)."""
+    data = plain("none")
+    data["poses"][0]["name"] = name
+    data["edges"], data["notes"] = [], ""
+    return json.dumps(data, separators=(",", ":"), ensure_ascii=False)
+
+
+@pytest.mark.parametrize("name", ["m", "kamera-\u03b1\u03b2"])    # ASCII, and characters of two bytes in UTF-8
+def test_text_and_bytes_exactly_at_the_limit_load_and_one_byte_more_is_refused(name):
+    text = _small_text(name)
+    data = text.encode("utf-8")
+    size = len(data)
+    assert size < 1024
+    assert state_from_json(text, limit=size).poses[0].name == name
+    assert state_from_json(data, limit=size).poses[0].name == name
+    for given in (text, data):
+        with pytest.raises(InputTooLargeError) as err:
+            state_from_json(given, limit=size - 1)
+        assert str(err.value) == _too_large_words("state text", size, size - 1)
+
+
+def test_text_longer_in_characters_than_the_limit_is_refused_before_encoding():
+    text = _small_text()
+    with pytest.raises(InputTooLargeError) as err:
+        state_from_json(text, limit=len(text) - 5)
+    assert str(err.value) == _too_large_words("state text", len(text), len(text) - 5)
+
+
+def test_a_file_exactly_at_the_limit_loads_and_one_byte_more_is_refused(tmp_path):
+    path = tmp_path / "s.json"
+    path.write_bytes(_small_text().encode("utf-8"))
+    size = os.stat(path).st_size
+    assert load_state(path, limit=size).widget == "none"
+    with pytest.raises(InputTooLargeError) as err:
+        load_state(path, limit=size - 1)
+    assert "state file" in str(err.value) and f"{size - 1} bytes" in str(err.value)
+
+
+def test_save_state_writes_exactly_at_the_limit_and_refuses_one_byte_less(tmp_path):
+    state = state_from_json(_small_text("kamera-\u03b1"))
+    text = state_to_json(state)
+    size = len(text.encode("utf-8"))
+    assert size < 1024                                   # so both sizes are written in bytes
+    path = tmp_path / "at-limit.json"
+    assert save_state(state, path, limit=size) is not None
+    assert os.stat(path).st_size == size and path.read_bytes() == text.encode("utf-8")
+    refused = tmp_path / "over.json"
+    with pytest.raises(InputTooLargeError) as err:
+        save_state(state, refused, limit=size - 1)
+    assert str(err.value) == (f"state not saved to '{refused}': it is {size} bytes, larger than the limit of "
+                              f"{size - 1} bytes that load_state reads. Pass a larger limit= to save_state and to "
+                              "load_state if it really is this large.")
+    assert not refused.exists()
+    assert load_state(path, limit=size) == state
+
+
+def test_a_report_exactly_at_the_limit_is_read_and_one_byte_more_is_refused(tmp_path):
+    page = (f"<html><body>{REPORT_STATE_OPEN}{_small_text()}</script></body></html>").encode("utf-8")
+    path = tmp_path / "r.html"
+    path.write_bytes(page)
+    size = os.stat(path).st_size
+    assert read_report_state(path, limit=size).widget == "none"
+    with pytest.raises(InputTooLargeError) as err:
+        read_report_state(path, limit=size - 1)
+    assert "report" in str(err.value) and f"{size - 1} bytes" in str(err.value)
+
+
+# --- what the saved text is ----------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("indent", [None, 0, 1, 2])
+def test_saved_text_is_pythons_json_of_its_contents_with_names_as_written(indent):
+    state = _state("kamera-\u03b1 \u2192 base")
+    text = state_to_json(state) if indent == 1 else state_to_json(state, indent=indent)
+    assert text == json.dumps(json.loads(text), indent=indent, ensure_ascii=False)  # the reference: Python's json
+    assert "kamera-\u03b1 \u2192 base" in text                                # written as itself, not \u escapes
+    assert state_from_json(text) == state
+
+
+def test_a_state_changed_behind_its_checks_is_not_written(tmp_path):
+    """Nothing silently repaired: a NaN put into a checked state's pose is refused, never written as NaN."""
+    state = _state()
+    matrix = state.poses[0].matrix
+    if not matrix.flags.writeable:
+        matrix = np.array(matrix)
+        object.__setattr__(state.poses[0], "matrix", matrix)
+    matrix[0, 3] = np.nan
+    with pytest.raises(StateFileError) as err:
+        state_to_json(state)
+    assert str(err.value).startswith("state: cannot be written as JSON (") and \
+        str(err.value).endswith("); expected a State whose entries passed its checks")
+    with pytest.raises(StateFileError):
+        save_state(state, tmp_path / "never.json")
+    assert not (tmp_path / "never.json").exists()
+
+
+# --- what each refusal says ----------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("given, kind", [(12, "int"), (None, "NoneType"), (["{}"], "list")])
+def test_text_of_another_type_is_refused_naming_the_type(given, kind):
+    with pytest.raises(StateFileError) as err:
+        state_from_json(given)
+    assert str(err.value) == f"state top level: got {kind}; expected JSON text (str or UTF-8 bytes)"
+    assert err.value.path is None
+
+
+def test_bytes_that_are_not_utf8_name_the_byte_and_its_offset():
+    data = _small_text().encode("utf-8").replace(b'"m"', b'"\xff"')
+    offset = data.index(b"\xff")
+    with pytest.raises(StateFileError) as err:
+        state_from_json(data)
+    assert str(err.value) == (f"state top level: not UTF-8 text (byte 0xff at offset {offset}: invalid start byte); "
+                              "expected JSON text encoded as UTF-8")
+
+
+def test_bad_json_names_line_and_column_as_pythons_json_does():
+    text = _small_text()[:-1] + ",}"
+    try:
+        json.loads(text)
+    except json.JSONDecodeError as exc:
+        expected = f"not valid JSON at line {exc.lineno}, column {exc.colno}: {exc.msg}"
+    with pytest.raises(StateFileError) as err:
+        state_from_json(text)
+    assert str(err.value) == f"state top level: {expected}; expected JSON text as posekit writes it"
+
+
+def test_a_bad_entry_in_a_file_names_the_entry_and_the_file(tmp_path):
+    data = plain("explorer")
+    data["schema"] = "other"
+    path = tmp_path / "bad.json"
+    path.write_text(json.dumps(data))
+    with pytest.raises(StateFileError) as err:
+        load_state(path)
+    assert str(err.value) == f"state schema: got text 'other'; expected 'posekit-state' (in state file '{path}')"
+    assert err.value.path == "schema"
+    with open(path, "rb") as fh, pytest.raises(StateFileError) as err:
+        load_state(fh)
+    assert str(err.value).endswith("(in state file the stream)")
+
+
+def test_a_bad_entry_in_a_report_names_the_entry_and_the_report(tmp_path):
+    data = plain("explorer")
+    data["version"] = 7
+    path = tmp_path / "r.html"
+    path.write_text(f"<p>{REPORT_STATE_OPEN}{json.dumps(data)}</script>")
+    with pytest.raises(StateFileError) as err:
+        read_report_state(path)
+    assert str(err.value).endswith(f"(in the state block of report '{path}')") and err.value.path == "version"
+    unclosed = tmp_path / "open.html"
+    unclosed.write_text(f"<p>{REPORT_STATE_OPEN}{json.dumps(plain('explorer'))}")
+    with pytest.raises(StateFileError) as err:
+        read_report_state(unclosed)
+    assert str(err.value) == (f"report '{unclosed}': the embedded state block is not closed; expected it to end "
+                              "with </script>")
+    with pytest.raises(StateFileError) as err:
+        read_report_state(io.BytesIO(f"<p>{REPORT_STATE_OPEN}".encode()))
+    assert str(err.value).startswith("report the stream: the embedded state block is not closed")
+
+
+def test_the_state_block_ends_at_its_own_closing_tag(tmp_path):
+    """A report has other scripts after the state (its plots); the state is read up to its own </script>."""
+    path = tmp_path / "page.html"
+    path.write_text(f"{REPORT_STATE_OPEN}{_small_text()}</script><script>var plots = [];</script>")
+    assert read_report_state(path).widget == "none"
+
+
+def test_paths_that_are_not_paths_are_typed_errors_naming_the_state_file(tmp_path):
+    state = _state()
+    for bad in ("", 12, None):
+        with pytest.raises(WrongTypeError) as err:
+            save_state(state, bad)
+        assert str(err.value).startswith("state file: got ") and str(err.value).endswith("; expected a file path")
+    with pytest.raises(FileReadError) as err:
+        load_state(tmp_path / "missing.json")
+    assert "state file" in str(err.value) and "missing.json" in str(err.value)
+    with pytest.raises(StateFileError) as err:
+        state_to_json({"widget": "explorer"})
+    assert str(err.value) == "state: got dict; expected a posekit State"
+    assert isinstance(_state(), State)
