@@ -19,6 +19,9 @@ What it does:
    killed (timeouts count as killed), listed as equivalent, and surviving, with the share killed
    among the non-equivalent ones; every survivor is printed with its file, line and diff.
 
+After tests are added for the survivors, ``--again`` (same ``--workdir``) runs only the last
+run's survivors and the mutants no test reached, against the checkout's tests as they are now.
+
 Equivalent mutants are listed in ``tests/equivalent_mutants.txt``, one per line::
 
     <mutant name> | <file>:<line> | <one-line reason it cannot change behaviour>
@@ -154,12 +157,14 @@ def write_copy(workdir: Path, table: dict) -> None:
     (workdir / "pyproject.toml").write_text(text, encoding="utf-8")
 
 
-def run_mutmut(workdir: Path, max_children: int) -> int:
-    """``mutmut run`` in the copy; its progress goes to the terminal, or to ``mutmut-run.log`` when there is none."""
+def run_mutmut(workdir: Path, max_children: int, names: list[str] | None = None) -> int:
+    """``mutmut run`` in the copy (only the mutants ``names`` when given); its progress goes to the terminal,
+    or to ``mutmut-run.log`` when there is none."""
     env = dict(os.environ, PYTHONDONTWRITEBYTECODE="1")
     env.pop("PYTHONPATH", None)     # mutmut puts mutants/ first on the path; the checkout must not shadow it
-    cmd = [sys.executable, "-m", "mutmut", "run", "--max-children", str(max_children)]
-    print("running:", " ".join(cmd), f"(in {workdir})", flush=True)
+    cmd = [sys.executable, "-m", "mutmut", "run", "--max-children", str(max_children), *(names or [])]
+    print("running:", " ".join(cmd[:7]) + (f" and {len(names)} mutant names" if names else ""), f"(in {workdir})",
+          flush=True)
     if sys.stdout.isatty():
         return subprocess.call(cmd, cwd=workdir, env=env)
     log = workdir / "mutmut-run.log"
@@ -303,6 +308,9 @@ def main(argv=None) -> int:
     p.add_argument("--fresh", action="store_true", help="start over: remove the working folder first")
     p.add_argument("--max-children", type=int, default=2, help="parallel mutmut workers (2)")
     p.add_argument("--report-only", action="store_true", help="do not run mutmut; report the last run")
+    p.add_argument("--again", action="store_true",
+                   help="run only the last run's survivors (and mutants no test reached) again, against the "
+                        "checkout's tests as they are now: after adding tests for them")
     p.add_argument("--equivalents", type=Path, default=EQUIVALENT_FILE, help="the equivalent-mutant list")
     p.add_argument("--no-diffs", action="store_true", help="list survivors without their diffs")
     p.add_argument("--check", action="store_true", help="exit 1 when a module is below its target")
@@ -317,11 +325,18 @@ def main(argv=None) -> int:
                 shutil.rmtree(workdir)
             base = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8")).get("tool", {}).get(
                 "mutmut", {})
-            if args.module and (workdir / "mutants").exists():
+            names = None
+            if args.again:
+                last = read_results(workdir) if (workdir / "mutants").exists() else {}
+                names = sorted(n for codes in last.values() for n, c in codes.items()
+                               if c in SURVIVED | NO_TESTS and n not in equivalents)
+                if not names:
+                    raise ReportError(f"--again: no survivors of an earlier run under {workdir / 'mutants'}")
+            elif args.module and (workdir / "mutants").exists():
                 # mutmut keeps results per file; a narrower run must not report stale other files
                 shutil.rmtree(workdir / "mutants")
             write_copy(workdir, mutmut_table(base, args.module, args.tests))
-            code = run_mutmut(workdir, args.max_children)
+            code = run_mutmut(workdir, args.max_children, names)
             if code != 0:
                 print(f"mutmut exited with status {code}", file=sys.stderr)
         results = read_results(workdir)

@@ -220,3 +220,103 @@ def test_paths_that_are_not_paths_are_typed_errors_naming_the_state_file(tmp_pat
         state_to_json({"widget": "explorer"})
     assert str(err.value) == "state: got dict; expected a posekit State"
     assert isinstance(_state(), State)
+
+
+# --- refusals of single entries: the whole message, its numbers counted here ----------------------------------
+
+def _refusal(text):
+    with pytest.raises(StateFileError) as err:
+        state_from_json(text)
+    return err.value
+
+
+def _with_notes(raw: str) -> str:
+    """A valid state's text with ``raw`` (JSON source) in place of its notes."""
+    return json.dumps(plain("explorer")).replace('"seen on the survey boat"', raw)
+
+
+def _quoted(text: str, limit: int) -> str:
+    """How messages quote user text (posekit.core.errors.excerpt's documented form), built here."""
+    return f"'{text[:limit]}'" + (f"... ({len(text)} characters)" if len(text) > limit else "")
+
+
+@pytest.mark.parametrize("length", [29, 30, 31, 40])
+def test_a_repeated_key_is_named_in_its_first_30_characters(length):
+    key = "".join(chr(ord("a") + i % 26) for i in range(length))
+    err = _refusal(_with_notes(f'{{"{key}": 1, "{key}": 2}}'))
+    assert str(err) == (f"state notes: the key {_quoted(key, 30)} appears more than once; expected each key at "
+                        "most once in an object")
+    assert err.path == "notes"
+
+
+@pytest.mark.parametrize("length", [30, 31])
+def test_a_path_through_a_key_that_is_no_name_quotes_it(length):
+    key = ("a b-" * 10)[:length]                               # spaces and dashes: not a plain name
+    err = _refusal(json.dumps({key: {"inner": 1}}).replace('{"inner": 1}', '{"inner": 1, "inner": 2}'))
+    assert err.path == f"[{_quoted(key, 30)}]"
+    assert str(err).startswith(f"state [{_quoted(key, 30)}]: the key 'inner' appears more than once")
+
+
+@pytest.mark.parametrize("constant", ["NaN", "Infinity", "-Infinity"])
+def test_json_constants_outside_the_standard_are_refused_by_name(constant):
+    err = _refusal(_with_notes(constant))
+    assert str(err) == (f"state notes: got {constant}, which is not a JSON number; expected a finite number (JSON "
+                        "has no NaN or Infinity)")
+    assert err.path == "notes"
+
+
+@pytest.mark.parametrize("literal", ["1e999", "-2.5e400", "1.0000000000000000000000000000000000e999"])
+def test_a_number_beyond_float64_is_quoted_as_written(literal):
+    assert float(literal) in (float("inf"), float("-inf"))     # the reference: Python's float overflows too
+    err = _refusal(_with_notes(literal))
+    assert str(err) == (f"state notes: got {_quoted(literal, 30)}, beyond the range of float64 numbers; expected a "
+                        "finite number no larger in size than 1.8e308")
+    assert err.path == "notes"
+
+
+def test_an_integer_of_more_digits_than_the_limit_says_how_many():
+    digits = "7" * 311
+    err = _refusal(_with_notes(digits))
+    assert str(err) == (f"state notes: got an integer of {len(digits)} digits; expected a finite number (integers "
+                        "of at most 310 digits)")
+    at_limit = _refusal(_with_notes("7" * 310))          # read as a number; refused only as notes that are not text
+    assert at_limit.path == "notes" and "integers of at most 310 digits" not in str(at_limit)
+
+
+def test_lists_longer_than_the_limit_are_refused_by_their_length_only():
+    data = plain("explorer")
+    data["poses"] = [0] * 10_001
+    err = _refusal(json.dumps(data))
+    assert (str(err), err.path) == ("state poses: got a list of 10001 entries; expected a list of at most 10000 "
+                                    "entries", "poses")
+    data["poses"] = [0] * 10_000                          # at the limit, the length passes; the entry is refused
+    err = _refusal(json.dumps(data))
+    assert err.path == "poses[0]"
+    data["poses"] = 5
+    assert str(_refusal(json.dumps(data))) == "state poses: got 5; expected a list of at most 10000 entries"
+
+
+def test_files_are_named_whole_up_to_80_characters_and_standard_input_by_name(tmp_path, monkeypatch):
+    data = plain("explorer")
+    data["schema"] = "other"
+    for stem in ("s", "x" * 90):
+        path = tmp_path / f"{stem}.json"
+        path.write_text(json.dumps(data))
+        with pytest.raises(StateFileError) as err:
+            load_state(path)
+        assert str(err.value).endswith(f"(in state file {_quoted(str(path), 80)})")
+    monkeypatch.setattr("sys.stdin", io.TextIOWrapper(io.BytesIO(json.dumps(data).encode("utf-8"))))
+    with pytest.raises(StateFileError) as err:
+        load_state("-")
+    assert str(err.value).endswith("(in state file standard input)")
+
+
+def test_a_non_finite_number_is_not_written_as_source():
+    from posekit.io.state import float_literal
+
+    for x in (float("nan"), float("inf"), -float("inf")):
+        with pytest.raises(StateFileError) as err:
+            float_literal(x)
+        assert str(err.value) == (f"cannot write the non-finite number {x!r}; expected a finite number (states hold "
+                                  "finite numbers only)")
+    assert float(float_literal(0.1 + 0.2)) == 0.1 + 0.2                 # bit-identical back (Python's repr)
