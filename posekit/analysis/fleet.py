@@ -255,7 +255,7 @@ def _on_local_dask(files, options, scheduler, workers, progress):
                                   "scheduler='serial'") from None
     count = workers or os.cpu_count() or 1
     tasks = [dask.delayed(_rows_of, pure=False)(f, options) for f in files]
-    with _one_arrow_thread(scheduler == "threads" and count > 1):
+    with _files_as_parallel_unit(scheduler == "threads" and count > 1):
         if _show_progress(progress):
             with ProgressBar(minimum=1.0, out=sys.stderr):
                 per_file = dask.compute(*tasks, scheduler=scheduler, num_workers=count)
@@ -265,7 +265,7 @@ def _on_local_dask(files, options, scheduler, workers, progress):
 
 
 @contextlib.contextmanager
-def _one_arrow_thread(wanted: bool):
+def _files_as_parallel_unit(wanted: bool):
     """While files are read side by side in threads, each file is read and scanned on its own thread:
     pyarrow reads on the calling thread and posekit's compiled loops do not split (both restored after).
 
