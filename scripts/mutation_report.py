@@ -187,6 +187,30 @@ def read_results(workdir: Path) -> dict[str, dict[str, int | None]]:
     return out
 
 
+def merge_results(last: dict, now: dict) -> dict:
+    """The earlier run's codes with the rerun's put over them.  mutmut starts a file's results afresh
+    on every run, so a rerun of the survivors alone would forget the mutants killed before; a mutant
+    the rerun did not reach (interrupted) keeps its earlier code.  Tests are only ever added between
+    the two runs, so a mutant killed before is still killed."""
+    merged = {}
+    for path in sorted(set(last) | set(now)):
+        codes = dict(last.get(path, {}))
+        codes.update({n: c for n, c in now.get(path, {}).items() if c is not None or n not in codes})
+        merged[path] = codes
+    return merged
+
+
+def write_results(workdir: Path, results: dict) -> None:
+    """Put merged codes back into mutmut's ``.meta`` files, so a later ``--again`` or ``--report-only``
+    starts from them."""
+    for path, codes in results.items():
+        meta = workdir / "mutants" / (path + ".meta")
+        if meta.exists():
+            data = json.loads(meta.read_text(encoding="utf-8"))
+            data["exit_code_by_key"] = codes
+            meta.write_text(json.dumps(data, indent=4), encoding="utf-8")
+
+
 def _function_of(mutant: str) -> tuple[str | None, str]:
     """``(class or None, function)`` from a mutant name such as ``pkg.mod.xǁCǁf__mutmut_3``."""
     tail = mutant.rpartition(".")[2]
@@ -320,6 +344,7 @@ def main(argv=None) -> int:
         workdir = args.workdir.resolve()
         if ROOT in workdir.parents or workdir == ROOT:
             raise ReportError(f"--workdir {workdir} is inside the checkout; choose a folder outside it")
+        last = {}
         if not args.report_only:
             if args.fresh and workdir.exists():
                 shutil.rmtree(workdir)
@@ -340,6 +365,9 @@ def main(argv=None) -> int:
             if code != 0:
                 print(f"mutmut exited with status {code}", file=sys.stderr)
         results = read_results(workdir)
+        if last:
+            results = merge_results(last, results)
+            write_results(workdir, results)
         if not results:
             raise ReportError(f"no mutmut results under {workdir / 'mutants'}; run without --report-only first")
         scores = score(results, equivalents)
