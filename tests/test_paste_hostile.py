@@ -19,7 +19,6 @@ from __future__ import annotations
 
 import json
 import math
-import time
 from datetime import timedelta
 
 import numpy as np
@@ -496,34 +495,49 @@ DENSE = {
 }
 
 
+# How long these take is measured by benchmarks/bench_input_guards.py (figures against Python's
+# json on the same texts); the tests check what is read or refused, never a time.
+
 @pytest.mark.parametrize("kind", sorted(DENSE))
-def test_a_mebibyte_paste_is_read_in_well_under_a_second(kind):
+def test_a_mebibyte_paste_is_read_whole(kind):
     text = DENSE[kind]()
     assert len(text) <= PASTE_LIMIT
-    start = time.process_time()  # CPU time: the bound holds on a busy machine as well
-    p = parse_numbers(text)
-    spent = time.process_time() - start
-    assert p.count > 100_000
-    assert spent < 1.0, f"{kind}: {spent:.2f} s of CPU for {len(text)} characters"
+    assert parse_numbers(text).count > 100_000
 
 
-def test_hostile_mebibytes_are_refused_quickly():
-    for text in ("[" * (PASTE_LIMIT - 1) + "1", "1deg " * (PASTE_LIMIT // 5), "x" * PASTE_LIMIT,
-                 "1 " * (PASTE_LIMIT // 2 - 2) + "nan", '"' * PASTE_LIMIT, "[1 " * (PASTE_LIMIT // 3),
-                 "[" + "-" * (PASTE_LIMIT - 3) + "1]", "{}" * (PASTE_LIMIT // 2), ",;" * (PASTE_LIMIT // 2)):
-        start = time.process_time()
-        with pytest.raises(PoseInputError):
-            parse_numbers(text)
-        assert time.process_time() - start < 1.0, text[:20]
+#: Texts of about the paste limit that must be refused (depth, units, words, NaN, quotes, brackets).
+HOSTILE_MEBIBYTES = {
+    "brackets to the limit": lambda: "[" * (PASTE_LIMIT - 1) + "1",
+    "a unit word on every number": lambda: "1deg " * (PASTE_LIMIT // 5),
+    "one long word": lambda: "x" * PASTE_LIMIT,
+    "NaN last": lambda: "1 " * (PASTE_LIMIT // 2 - 2) + "nan",
+    "quotes": lambda: '"' * PASTE_LIMIT,
+    "lists never closed": lambda: "[1 " * (PASTE_LIMIT // 3),
+    "minus signs": lambda: "[" + "-" * (PASTE_LIMIT - 3) + "1]",
+    "empty objects": lambda: "{}" * (PASTE_LIMIT // 2),
+    "separators only": lambda: ",;" * (PASTE_LIMIT // 2),
+}
 
 
-def test_ten_megabytes_are_refused_before_reading():
+@pytest.mark.parametrize("kind", sorted(HOSTILE_MEBIBYTES))
+def test_hostile_mebibytes_are_refused(kind):
+    with pytest.raises(PoseInputError):
+        parse_numbers(HOSTILE_MEBIBYTES[kind]())
+
+
+def test_ten_megabytes_are_refused_before_reading(monkeypatch):
+    import posekit.io.paste as paste
+    import posekit.io.words as words
+
+    def never(*args, **kwargs):
+        raise AssertionError("the text was read before its size was checked")
+
     text = "0.5 " * 2_500_000
+    monkeypatch.setattr(paste, "_unwrap_numpy_scalars", never)    # the paste reader's first step
+    monkeypatch.setattr(words, "odd_characters", never)            # the description reader's first step
     for reader in (parse_numbers, pose_from_words):
-        start = time.process_time()
         with pytest.raises(InputTooLargeError, match=f"limit of {PASTE_LIMIT} characters"):
             reader(text)
-        assert time.process_time() - start < 0.1
     with pytest.raises(ConventionTextError, match=f"limit of {TEXT_LIMIT} characters"):
         Convention.parse(text)
 

@@ -935,12 +935,9 @@ LARGE_TEXTS = {  # made when a test runs, not held for the whole session
 
 
 @pytest.mark.parametrize("label", sorted(LARGE_TEXTS))
-def test_the_largest_hostile_texts_are_refused_quickly(label):
-    import time
-
+def test_the_largest_hostile_texts_are_refused(label):
+    # how long each takes is printed by benchmarks/bench_input_guards.py, against Python's json
     text = LARGE_TEXTS[label]()
     assert len(text.encode()) <= limits.STATE_LIMIT
-    began = time.perf_counter()
     with pytest.raises(StateFileError):
         state_from_json(text)
-    assert time.perf_counter() - began < 15.0  # a quadratic step would take minutes here

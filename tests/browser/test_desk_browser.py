@@ -299,7 +299,7 @@ def test_three_invented_bugs_answered_from_an_empty_notebook(lab, artifacts):
         page, actions, seconds, code = answer_from_empty_notebook(lab, bug, f"answer_{k}.ipynb")
         print(f"{bug.name}: {len(actions)} actions, {seconds:.1f} s ({'; '.join(actions)})")
         assert len(actions) <= 5, actions
-        assert seconds < 60, (bug.name, seconds)   # an answer in under a minute
+        # the time it took is a target of benchmarks/bench_time_to_answer.py, not asserted here
         _check_corrected(bug, _run_code(code))
         # the corrected numbers the page shows are the same ones
         shown = page.locator(".posekit-desk-detail code.posekit-desk-corrected").inner_text()
