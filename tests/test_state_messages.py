@@ -19,6 +19,7 @@ import pytest
 from test_state_hostile import plain
 
 import posekit.widgets  # noqa: F401 - registers each widget's settings class (plain() uses them)
+from posekit.core.convention import Convention
 from posekit.core.errors import WrongTypeError
 from posekit.io.limits import FileReadError, InputTooLargeError
 from posekit.io.settings import StateFileError
@@ -320,3 +321,161 @@ def test_a_non_finite_number_is_not_written_as_source():
         assert str(err.value) == (f"cannot write the non-finite number {x!r}; expected a finite number (states hold "
                                   "finite numbers only)")
     assert float(float_literal(0.1 + 0.2)) == 0.1 + 0.2                 # bit-identical back (Python's repr)
+
+
+# --- records built in Python (a notebook builds State, NamedPose and Edge directly) ----------------------------
+
+def _built(make) -> StateFileError:
+    with pytest.raises(StateFileError) as err:
+        make()
+    return err.value
+
+
+def test_a_named_pose_is_a_read_only_float64_copy_of_the_numbers_given():
+    from posekit.io.state import NamedPose
+
+    given = [[0.0, -1.0, 0.0, 0.25], [1.0, 0.0, 0.0, -2.0], [0.0, 0.0, 1.0, 3.0], [0, 0, 0, 1]]  # 90 deg about z
+    for numbers in (given, np.array(given, dtype=np.float32)):
+        pose = NamedPose("turned", numbers)
+        assert pose.matrix.dtype == np.float64 and pose.matrix.shape == (4, 4)
+        assert not pose.matrix.flags.writeable
+        assert pose.matrix.tolist() == [[float(x) for x in row] for row in given]
+        with pytest.raises(ValueError):
+            pose.matrix[0, 3] = 9.0
+    source = np.array(given)
+    pose = NamedPose("turned", source)
+    source[0, 3] = 9.0                                   # the caller's array changes later: the pose does not
+    assert pose.matrix[0, 3] == 0.25
+
+
+def test_records_built_in_python_are_refused_word_for_word():
+    from posekit.io.state import MAX_ITEMS, Edge, NamedPose
+
+    eye = np.eye(4)
+    cases = [
+        (lambda: NamedPose("a", eye, convention="zyx"), "pose.convention",
+         "state pose.convention: got text 'zyx'; expected a posekit Convention (parse convention text with "
+         "Convention.parse)"),
+        (lambda: NamedPose("a", np.stack([eye, eye])), "pose.matrix",
+         "state pose.matrix: got shape (2, 4, 4); expected one 4x4 transform"),
+        (lambda: State(poses="abc"), "poses", "state poses: got text 'abc'; expected a sequence of NamedPose"),
+        (lambda: State(poses=3), "poses", "state poses: got 3; expected a sequence of NamedPose"),
+        (lambda: State(edges={"a": 1}), "edges",
+         "state edges: got an object with 1 keys; expected a sequence of Edge"),
+        (lambda: State(poses=[NamedPose("a", eye), "x"]), "poses[1]",
+         "state poses[1]: got text 'x'; expected a posekit NamedPose"),
+        (lambda: State(edges=[1]), "edges[0]", "state edges[0]: got 1; expected a posekit Edge"),
+        (lambda: State(poses=[NamedPose("a", eye)] * (MAX_ITEMS + 1)), "poses",
+         f"state poses: got {MAX_ITEMS + 1} entries; expected at most {MAX_ITEMS} entries"),
+        (lambda: State(versions=[1]), "versions",
+         "state versions: got a list of 1 entries; expected an object of posekit, numpy, scipy, python, each text "
+         "of at most 64 characters"),
+    ]
+    for make, path, words in cases:
+        err = _built(make)
+        assert (str(err), err.path) == (words, path)
+    # a rotation block that is not a rotation: the core's reason, then what a pose matrix must be
+    err = _built(lambda: NamedPose("a", np.diag([1.0, 1.0, 2.0, 1.0])))
+    assert err.path == "pose.matrix"
+    assert str(err).startswith("state pose.matrix: pose.matrix rotation block: not orthonormal")
+    assert str(err).endswith("; expected a 4x4 transform: orthonormal rotation, bottom row 0 0 0 1, finite numbers")
+    # the edges of the limits: exactly MAX_ITEMS entries, any iterable, notes with newlines and tabs
+    assert len(State(poses=[NamedPose("a", eye)] * MAX_ITEMS).poses) == MAX_ITEMS
+    assert State(poses=iter([NamedPose("a", eye)])).poses == (NamedPose("a", eye),)
+    assert State(notes="a\n\tb").notes == "a\n\tb"
+    edge = Edge("base", "cam", "position-quaternion", [0, 0, 0, 0, 0, 0, 1])
+    assert (edge.parent, edge.child, edge.numbers) == ("base", "cam", (0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 1.0))
+    assert all(type(x) is float for x in edge.numbers)
+
+
+def test_a_built_state_cannot_be_changed_afterwards():
+    state = _state()
+    for name in ("settings", "versions"):
+        with pytest.raises(TypeError):
+            getattr(state, name)["posekit"] = "0"
+
+
+def test_edges_widgets_and_paths_are_refused_word_for_word():
+    from posekit.core.errors import WrongTypeError
+    from posekit.io.limits import FileWriteError
+    from posekit.io.state import Edge
+
+    kinds = "'matrix', 'position-quaternion', 'position-euler', 'position-heading'"
+    matrix_numbers = "a flat list of 9 or 12 or 16 finite numbers for kind 'matrix'"
+    cases = [
+        (lambda: Edge("arm", "arm", "position-heading", [0, 0, 0]), "edge.child",
+         "state edge.child: got 'arm', the same frame as the parent; expected an edge between two different frames"),
+        (lambda: Edge("a", "b", "x", [0, 0, 0]), "edge.kind", f"state edge.kind: got text 'x'; expected one of {kinds}"),
+        (lambda: Edge("a", "b", "matrix", [0] * 5), "edge.numbers",
+         f"state edge.numbers: got 5 numbers; expected {matrix_numbers}"),
+        (lambda: Edge("a", "b", "matrix", "abc"), "edge.numbers",
+         f"state edge.numbers: got text 'abc'; expected {matrix_numbers}"),
+        (lambda: Edge("a", "b", "position-heading", [0, 0, 0], convention=5), "edge.convention",
+         "state edge.convention: got 5; expected convention text in ASCII such as 'sequence=z-y-x unit=degrees'"),
+        (lambda: State(widget="x"), "widget",
+         "state widget: got text 'x'; expected one of 'none', 'explorer', 'planar', 'singularity', 'graph', 'desk', "
+         "'trajectory', 'mount-finder'"),
+    ]
+    for make, path, words in cases:
+        err = _built(make)
+        assert (str(err), err.path) == (words, path)
+    # the child named in the message is cut at 40 characters, like every name echoed
+    long = "f" * 45
+    err = _built(lambda: Edge(long, long, "position-heading", [0, 0, 0]))
+    assert str(err).startswith(f"state edge.child: got {_quoted(long, 40)}, the same frame as the parent;")
+    edge = Edge("a", "b", "position-heading", [0, 0, 0], convention="sequence=z-y-x unit=degrees")
+    assert edge.convention == Convention.parse("sequence=z-y-x unit=degrees")
+    for path, shown_as in (("", "''"), (5, "5")):
+        with pytest.raises(WrongTypeError) as err:
+            save_state(_state(), path)
+        assert str(err.value) == f"state file: got {shown_as}; expected a file path"
+    with pytest.raises(FileWriteError) as err:
+        save_state(_state(), "/nonexistent-posekit-folder/s.json")
+    assert str(err.value).startswith("state file '/nonexistent-posekit-folder/s.json' not written: ")
+
+
+def test_a_long_core_reason_is_cut_at_300_characters_with_controls_shown():
+    from posekit.io.state import _short
+
+    assert _short("x" * 300) == "x" * 300
+    assert _short("x" * 301) == "x" * 300 + "..."
+    assert _short("a\x07b") == "a<U+0007>b"
+
+
+def test_the_scipy_version_comes_from_the_module_the_metadata_or_says_not_installed(monkeypatch):
+    import importlib.metadata
+    import sys
+
+    import scipy
+
+    import posekit.io.state as state_module
+
+    monkeypatch.setattr(state_module, "_VERSIONS", {})
+    assert state_module.environment_versions()["scipy"] == scipy.__version__
+
+    def missing(name):
+        raise importlib.metadata.PackageNotFoundError(name)
+
+    monkeypatch.setattr(state_module, "_VERSIONS", {})
+    monkeypatch.delitem(sys.modules, "scipy")
+    monkeypatch.setattr(importlib.metadata, "version", missing)
+    assert state_module.environment_versions()["scipy"] == "not installed"
+
+
+def test_a_state_larger_than_the_state_file_limit_is_read_from_a_report_and_saved_with_a_larger_limit(tmp_path):
+    from posekit.io.limits import STATE_LIMIT
+    from posekit.io.state import MAX_ITEMS, Edge, NamedPose
+
+    name = "n" * 190
+    big = State(poses=[NamedPose(f"{name}{i:06d}", np.eye(4)) for i in range(MAX_ITEMS)],
+                edges=[Edge(f"{name}{i:06d}", f"{name}c{i:05d}", "matrix", np.eye(4).ravel().tolist())
+                       for i in range(MAX_ITEMS)])
+    text = state_to_json(big)
+    assert len(text.encode("utf-8")) > STATE_LIMIT                  # larger than a state file may be by default
+    report = tmp_path / "big.html"
+    report.write_text(f"<html><body>{REPORT_STATE_OPEN}{text}</script></body></html>", encoding="utf-8")
+    assert read_report_state(report) == big                         # a report's own, larger limit applies
+    with pytest.raises(InputTooLargeError):
+        save_state(big, tmp_path / "big.json")
+    saved = save_state(big, tmp_path / "big.json", limit=2 * STATE_LIMIT)
+    assert load_state(saved, limit=2 * STATE_LIMIT) == big
