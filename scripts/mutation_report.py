@@ -20,7 +20,9 @@ What it does:
    among the non-equivalent ones; every survivor is printed with its file, line and diff.
 
 After tests are added for the survivors, ``--again`` (same ``--workdir``) runs only the last
-run's survivors and the mutants no test reached, against the checkout's tests as they are now.
+run's survivors and the mutants no test reached, against the checkout's tests as they are now;
+the other mutants keep their earlier results (mutmut itself would forget them), and so does a
+rerun that is interrupted.
 
 Equivalent mutants are listed in ``tests/equivalent_mutants.txt``, one per line::
 
