@@ -76,7 +76,7 @@ def oracle(stated, candidates, expected, sigma_r, sigma_t=SIGMA_T, reflections=T
     n_remap = 48 if reflections else 24
     compare_t = candidates[0].reading.has_translation and all(e.translation is not None for e in expected)
     extras = [(s, f) for s in LENGTH_SCALES for f in TRANSLATION_FRAMES] if compare_t else [(1.0, "parent")]
-    slips, rots, trans, owner, enumerated = [], [], [], [], 0
+    slips, rots, trans, before, owner, enumerated = [], [], [], [], [], 0
     for k, cand in enumerate(candidates):
         for true, transposed in _relations(stated, cand.reading):
             for p in range(n_remap):
@@ -90,6 +90,9 @@ def oracle(stated, candidates, expected, sigma_r, sigma_t=SIGMA_T, reflections=T
                         slips.append(slip)
                         rots.append(r)
                         trans.append(t)
+                        # the translation before the frame step (what the short list's stand-in compares)
+                        before.append(t if f == "parent" or t is None else
+                                      Slip(stated, true, transposed, p, q, s, "parent").decode(cand.numbers)[1])
                         owner.append(k)
     rots = np.stack(rots)                                                       # (M, N, 3, 3)
     out = {}
@@ -102,7 +105,13 @@ def oracle(stated, candidates, expected, sigma_r, sigma_t=SIGMA_T, reflections=T
         if compare_t:
             tres = np.linalg.norm(np.stack(trans) - e.translation, axis=-1)
             fit = fit + np.sum(0.5 * (tres / sigma_t) ** 2, axis=-1)
-            chordal = chordal + np.sum(0.5 * (tres / sigma_t) ** 2, axis=-1)
+            # the short list's stand-in: the translation before the frame step against the expected one
+            # carried into that frame by the *expected* rotation (the module docstring's closed form)
+            local = np.einsum("nba,nb->na", e.rotation, e.translation)               # R^T t
+            target = {"parent": e.translation, "child-axes": local, "inverse-translation": -local}
+            stand_in = np.stack([np.linalg.norm(b - target[sl.translation_frame], axis=-1)
+                                 for b, sl in zip(before, slips)])
+            chordal = chordal + np.sum(0.5 * (stand_in / sigma_t) ** 2, axis=-1)
         for j, slip in enumerate(slips):
             dev = slip.deviations() + e.deviations
             out[slip, e_i] = dict(rotation=rots[j], translation=trans[j], angles=ang[j],
@@ -259,30 +268,38 @@ def test_with_every_hypothesis_kept_the_groups_are_the_oracles_classes(name):
     assert ranking.groups[0].lead.rotation_rms <= sigma                          # the slip that wrote the numbers
 
 
-@pytest.mark.parametrize("name", ROTATION_CASES)
-def test_a_short_list_holds_only_the_best_by_chordal_cost(name):
-    stated, numbers, truth, _ = _case(name, seed=11, n=2)
-    cands = _true_candidates(stated, numbers, truth, want=2)
-    # noise of about 2 degrees on a 1-degree tolerance: the fit and the prior both decide the order
+@pytest.mark.parametrize("name,degrees", [(n, d) for n in ROTATION_CASES for d in (1.0, 40.0)]
+                         + [(n, 40.0) for n in TRANSLATION_CASES])
+def test_a_short_list_holds_only_the_best_by_chordal_cost(name, degrees):
+    stated, numbers, truth, t_truth = _case(name, seed=11, n=2)
+    small = t_truth is not None          # translations: 24 x 24 remaps, one reading, one expected side (time)
+    cands = _true_candidates(stated, numbers, truth, want=1 if small else 2)
+    # noise of about 2 degrees: on a 1-degree tolerance the fit decides most of the order, on a 40-degree
+    # one the prior weighs as much as the fit of a wrong remap
     noisy = (Rotation.from_rotvec(np.random.default_rng(5).normal(scale=0.03, size=(len(truth), 3)))
              * Rotation.from_matrix(truth)).as_matrix()                          # scipy
-    expected = [ExpectedSide(noisy, None, 0.0, "as given"),
-                ExpectedSide(np.swapaxes(noisy, -1, -2), None, 1.0, "transposed")]
-    sigma = math.radians(1.0)
-    table, enumerated = oracle(stated, cands, expected, sigma, reflections=True)
+    expected = [ExpectedSide(noisy, t_truth, 0.0, "as given")]
+    if not small:
+        expected.append(ExpectedSide(np.swapaxes(noisy, -1, -2), None, 1.0, "transposed"))
+    sigma, sigma_t = math.radians(degrees), SIGMA_T * degrees * 20
+    table, enumerated = oracle(stated, cands, expected, sigma, sigma_t, reflections=not small)
     keep = 40
-    ranking = score(stated, cands, expected, rotation_tolerance=sigma, translation_tolerance=SIGMA_T,
-                    reflections=True, keep=keep, limit=50)
-    assert ranking.hypotheses_scored == enumerated == 2 * len(cands) * 4 * 48 * 48
+    ranking = score(stated, cands, expected, rotation_tolerance=sigma, translation_tolerance=sigma_t,
+                    reflections=not small, keep=keep, limit=50)
+    assert ranking.hypotheses_scored == enumerated == (
+        len(cands) * 4 * 24 * 24 * 9 if small else 2 * len(cands) * 4 * 48 * 48)
     _check_listed(ranking, table, sigma, cands)
     chordal = np.sort([v["chordal"] for v in table.values()])
     bound = chordal[keep - 1]
     listed = [table[h.slip, h.expected]["chordal"] for _, h in _listed(ranking)]
     assert max(listed) <= bound + 1e-9 * max(1.0, bound), "a hypothesis outside the short list was listed"
     assert min(listed) == pytest.approx(chordal[0], rel=1e-9)                   # the best by chordal cost is there
-    best_exact = min(table[h.slip, h.expected]["cost"] for _, h in _listed(ranking))
-    assert ranking.groups[0].lead.cost == pytest.approx(best_exact, rel=1e-9) or not any(
-        g.lead.rotation_rms <= sigma for g in ranking.groups)
+    # the first explanation is the cheapest of those listed that fit, when any fits
+    fitting = [table[h.slip, h.expected] for _, h in _listed(ranking)]
+    fitting = [v["cost"] for v in fitting if math.sqrt(np.mean(v["angles"] ** 2)) <= sigma and (
+        v["tres"] is None or math.sqrt(np.mean(v["tres"] ** 2)) <= sigma_t)]
+    if fitting:
+        assert ranking.groups[0].lead.cost == pytest.approx(min(fitting), rel=1e-9)
 
 
 @pytest.mark.parametrize("name", TRANSLATION_CASES)
@@ -595,8 +612,9 @@ def test_translations_this_close_count_as_equal_and_opposite_ones_do_not():
     t = np.array([[0.0, 0.0, 1.0]])
     nudged = t.copy()
     nudged[0, 0] = scorer.EQUIVALENT
-    hyps = [_hyp(_slip(0), [0.0], cost=0, tres=[1.0], t=t), _hyp(_slip(1), [0.0], cost=1, dev=1, tres=[1.0], t=nudged),
-            _hyp(_slip(2), [0.0], cost=2, dev=1, tres=[1.0], t=-t)]               # same residual, other pose
+    hyps = [_hyp(_slip(0), [0.0], cost=0, tres=[0.0], t=t),
+            _hyp(_slip(1), [0.0], cost=1, dev=1, tres=[scorer.EQUIVALENT], t=nudged),
+            _hyp(_slip(2), [0.0], cost=2, dev=1, tres=[0.0], t=-t)]               # same residual, other pose
     groups = _groups(hyps, ttol=2.0)
     assert len(groups) == 2 and groups[1].lead.slip == _slip(2)
     assert len(groups[0].same) + len(groups[0].separable) == 1
@@ -644,3 +662,80 @@ def test_two_ways_of_one_mistake_are_the_same_and_without_a_common_input_they_ar
     (group,) = _groups(hyps, cands=[Candidate(readings_of(_Q)[0], _ONE), other])
     assert group.same == () and len(group.separable) == 1 and group.separable[0][1] is None
     assert {group.lead.slip, group.separable[0][0].slip} == {jpl, passive}
+
+
+def test_a_member_that_reads_the_probe_otherwise_is_separable_by_the_probe_that_differs_most():
+    # two slips that agree on this sample (built so) but not on other inputs: a parent remap and none
+    hyps = [_hyp(_slip(0), [0.0], cost=0), _hyp(_slip(5), [0.0], cost=1, dev=1)]
+    (group,) = _groups(hyps)
+    assert group.same == () and len(group.separable) == 1
+    member, sample = group.separable[0]
+    probe = scorer._probe_numbers(_Q)
+    r0, _ = _slip(0).decode(probe)
+    r1, _ = _slip(5).decode(probe)
+    apart = Rotation.from_matrix(np.swapaxes(r0, -1, -2) @ r1).magnitude()      # scipy: angle per probe pose
+    np.testing.assert_array_equal(sample, probe[int(np.argmax(apart))])
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_the_sample_shown_is_the_probe_on_which_the_two_differ_most(seed):
+    rot = _poses(70 + seed, 2)
+    stated = stated_reading(7, None, "scalar=last")
+    numbers = np.hstack([rot.inv().as_quat(), np.zeros((2, 3))])             # scipy: the inverse, x y z w
+    cands = [Candidate(r, numbers) for r in readings_of(stated)]
+    side = [ExpectedSide(rot.as_matrix(), np.zeros((2, 3)), 0.0, "as given")]
+    ranking = score(stated, cands, side, rotation_tolerance=0.01, translation_tolerance=0.001, limit=5)
+    probe = scorer._probe_numbers(stated)
+    shown = 0
+    for g in ranking.groups:
+        r0, t0 = g.lead.slip.decode(probe)
+        for h, sample in g.separable:
+            r1, t1 = h.slip.decode(probe)
+            apart = (Rotation.from_matrix(np.swapaxes(r0, -1, -2) @ r1).magnitude()   # scipy: angle per probe pose
+                     + np.linalg.norm(t1 - t0, axis=-1))                               # plus metres apart
+            np.testing.assert_array_equal(sample, probe[int(np.argmax(apart))])
+            shown += 1
+    assert shown >= 2
+
+
+def test_even_when_the_prior_outweighs_the_fit_no_mirrored_decode_is_listed():
+    # a tolerance of 10 radians makes a mirrored reading's 90-degree misfit cheap: still never listed
+    rot = _poses(30, 3)
+    mirrored = rot.as_matrix() @ np.diag([1.0, 1.0, -1.0])
+    stated = stated_reading(9)
+    cands = [Candidate(r, mirrored.reshape(3, 9)) for r in readings_of(stated)]
+    ranking = score(stated, cands, [ExpectedSide(rot.as_matrix(), None, 0.0, "as given")], rotation_tolerance=10.0,
+                    translation_tolerance=0.01, limit=10)
+    assert all(np.all(np.linalg.det(h.rotation) > 0) for _, h in _listed(ranking))
+
+
+@pytest.mark.parametrize("text,kind", [("unit=degrees", "position-euler"), ("unit=degrees", "euler"),
+                                       (None, "position-euler"), (None, "position-rotation-vector"),
+                                       ("scalar=last", "position-quaternion")])
+def test_every_candidate_is_read_from_its_own_numbers_as_scipy_reads_them(text, kind):
+    count = 6 if kind in ("position-euler", "position-rotation-vector") else (3 if kind == "euler" else 7)
+    stated = stated_reading(count, kind, text)
+    rng = np.random.default_rng(8)
+    readings = readings_of(stated)
+    cands = [Candidate(r, rng.normal(size=(2, count)) * 0.7) for r in readings]   # each its own numbers
+    reads = scorer._raw_reads(cands)
+    for cand, (m, t) in zip(cands, reads):
+        r, c = cand.reading, cand.reading.convention
+        moving = (r.position_first and r.kind.startswith("position-"))
+        rot_nums = cand.numbers[:, 3:] if moving else (cand.numbers[:, :-3] if r.kind.startswith("position-")
+                                                       else cand.numbers)
+        if r.rotation_kind == "euler":
+            seq = c.axes_letters.upper() if c.intrinsic else c.axes_letters.lower()
+            want = Rotation.from_euler(seq, rot_nums, degrees=c.unit == "degrees")     # scipy: upper = intrinsic
+        elif r.rotation_kind == "quaternion":
+            want = Rotation.from_quat(rot_nums, scalar_first=c.scalar == "first")      # scipy: Hamilton
+            if c.algebra == "jpl":                       # the same numbers give R^T (Trawny & Roumeliotis 2005)
+                want = want.inv()
+        else:
+            want = Rotation.from_rotvec(rot_nums, degrees=c.unit == "degrees")         # scipy
+        np.testing.assert_allclose(m, want.as_matrix(), atol=1e-12)
+        if r.kind.startswith("position-"):
+            np.testing.assert_array_equal(t, cand.numbers[:, :3] if r.position_first else cand.numbers[:, -3:])
+            assert t.dtype == np.float64
+        else:
+            assert t is None

@@ -479,3 +479,32 @@ def test_a_state_larger_than_the_state_file_limit_is_read_from_a_report_and_save
         save_state(big, tmp_path / "big.json")
     saved = save_state(big, tmp_path / "big.json", limit=2 * STATE_LIMIT)
     assert load_state(saved, limit=2 * STATE_LIMIT) == big
+
+
+@pytest.mark.parametrize("text,path,line,column", [
+    # an object level with no key yet, then arrays: the key is shown as empty
+    ("{" + "[" * 40, "[''" + "]" + "[0]" * 31, 1, 33),
+    # a newline first: line 2, and the column counts from just after it
+    ("\n" + "[" * 40, "[0]" * 32, 2, 33),
+    # a key JSON cannot read (a bad escape) is shown as written between its quotes
+    ('[[{"a\\x": ' + "[" * 40, "[0][0]['a\\x']" + "[0]" * 29, 1, 40),
+    # arrays before a key and a key that is no identifier: every level is named
+    ('{"k": [1, [2, {"b c": ' + "[" * 40, "k[1][1]['b c']" + "[0]" * 28, 1, 51),
+])
+def test_too_deep_names_every_level_and_the_place(text, path, line, column):
+    # path, line and column by hand count of the text's brackets (levels 1 to 32, the 33rd refused)
+    with pytest.raises(StateFileError) as err:
+        state_from_json(text)
+    assert str(err.value) == (f"state {path}: brackets nested more than 32 levels deep (line {line}, column {column}); "
+                              "expected at most 32 levels of nesting (a posekit state uses 5)")
+
+
+def test_a_limit_of_one_byte_is_a_limit_and_a_long_wrong_limit_is_cut_in_the_message():
+    with pytest.raises(InputTooLargeError) as err:             # 1 is a whole number of bytes >= 1: accepted
+        state_from_json("{}", limit=1)
+    assert str(err.value) == ("state text (2 bytes) is larger than the limit of 1 bytes. "
+                              "Pass a larger limit= if it really is this large.")
+    with pytest.raises(WrongTypeError) as err:
+        state_from_json("{}", limit="x" * 100)
+    # the value is shown in 40 characters: the opening quote, 39 letters, then the cut mark
+    assert str(err.value) == "limit: got '" + "x" * 39 + "...; expected a whole number of bytes >= 1"
