@@ -347,6 +347,9 @@ def main(argv=None) -> int:
         if ROOT in workdir.parents or workdir == ROOT:
             raise ReportError(f"--workdir {workdir} is inside the checkout; choose a folder outside it")
         last = {}
+        # the results before a rerun, on disk while it runs: mutmut forgets them, and a rerun stopped by a
+        # signal (not Ctrl-C) never reaches the merge below
+        saved = workdir / "results-before-again.json"
         if not args.report_only:
             if args.fresh and workdir.exists():
                 shutil.rmtree(workdir)
@@ -355,6 +358,9 @@ def main(argv=None) -> int:
             names = None
             if args.again:
                 last = read_results(workdir) if (workdir / "mutants").exists() else {}
+                if saved.exists():  # an earlier rerun was stopped before it could merge: its start is here
+                    last = merge_results(json.loads(saved.read_text(encoding="utf-8")), last)
+                saved.write_text(json.dumps(last), encoding="utf-8")
                 names = sorted(n for codes in last.values() for n, c in codes.items()
                                if c in SURVIVED | NO_TESTS and n not in equivalents)
                 if not names:
@@ -367,9 +373,13 @@ def main(argv=None) -> int:
             if code != 0:
                 print(f"mutmut exited with status {code}", file=sys.stderr)
         results = read_results(workdir)
+        if not last and saved.exists():  # --report-only after a rerun that was stopped
+            last = json.loads(saved.read_text(encoding="utf-8"))
         if last:
             results = merge_results(last, results)
-            write_results(workdir, results)
+            if not args.report_only:
+                write_results(workdir, results)
+                saved.unlink(missing_ok=True)
         if not results:
             raise ReportError(f"no mutmut results under {workdir / 'mutants'}; run without --report-only first")
         scores = score(results, equivalents)
