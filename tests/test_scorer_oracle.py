@@ -517,15 +517,21 @@ def _fresh(n, translation):
     return np.hstack([q, rng.normal(size=(n, 3))]) if translation else q
 
 
-@pytest.mark.parametrize("seed", range(3))
-def test_same_and_separable_hold_for_translations_too(seed):
-    # the sample's translation is zero, so every length scale and translation frame agrees on it
-    rot = _poses(40 + seed, 2)
+def _at_the_origin(seed):
+    """Position + quaternion numbers of the inverse pose with zero translations, and their ranking."""
+    rot = _poses(seed, 2)
     stated = stated_reading(7, None, "scalar=last")
     numbers = np.hstack([rot.inv().as_quat(), np.zeros((2, 3))])             # scipy: the inverse, x y z w
     cands = [Candidate(r, numbers) for r in readings_of(stated)]
     side = [ExpectedSide(rot.as_matrix(), np.zeros((2, 3)), 0.0, "as given")]
     ranking = score(stated, cands, side, rotation_tolerance=0.01, translation_tolerance=0.001, limit=5)
+    return stated, ranking
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_same_and_separable_hold_for_translations_too(seed):
+    # the sample's translation is zero, so every length scale and translation frame agrees on it
+    stated, ranking = _at_the_origin(40 + seed)
     fresh = _fresh(6, True)
     saw_same = saw_translation_only = False
     for g in ranking.groups:
@@ -679,12 +685,7 @@ def test_a_member_that_reads_the_probe_otherwise_is_separable_by_the_probe_that_
 
 @pytest.mark.parametrize("seed", range(3))
 def test_the_sample_shown_is_the_probe_on_which_the_two_differ_most(seed):
-    rot = _poses(70 + seed, 2)
-    stated = stated_reading(7, None, "scalar=last")
-    numbers = np.hstack([rot.inv().as_quat(), np.zeros((2, 3))])             # scipy: the inverse, x y z w
-    cands = [Candidate(r, numbers) for r in readings_of(stated)]
-    side = [ExpectedSide(rot.as_matrix(), np.zeros((2, 3)), 0.0, "as given")]
-    ranking = score(stated, cands, side, rotation_tolerance=0.01, translation_tolerance=0.001, limit=5)
+    stated, ranking = _at_the_origin(70 + seed)
     probe = scorer._probe_numbers(stated)
     shown = 0
     for g in ranking.groups:
