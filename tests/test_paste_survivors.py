@@ -624,3 +624,32 @@ def test_a_name_the_code_cannot_use_is_refused_word_for_word(name, shown):
     assert str(info.value) == (f"code(name): {shown} is not a name the code can use as written; accepted: a "
                                "Python identifier that is not a keyword, such as numbers, q or pose_1 "
                                "(letters, digits and underscores, not starting with a digit)")
+
+
+def test_the_plain_data_of_a_named_paste_is_the_text_and_scipy():
+    import json
+    text = "x: 1.5\ny: -2\nz: 0.25\nqx: 0\nqy: 0\nqz: 0.6\nqw: 0.8"
+    parsed = parse_numbers(text)
+    data = json.loads(json.dumps(parsed.as_dict()))                 # plain JSON, nothing lost on the way
+    assert data["numbers"] == [float(v.split(":")[1]) for v in text.splitlines()]   # float() of the text
+    assert data["names"] == [v.split(":")[0] for v in text.splitlines()]
+    assert (data["shape"], data["format"], data["notes"], data["ambiguous"]) == ([7], "named values", [], True)
+    hamilton = Rotation.from_quat([0.0, 0.0, 0.6, 0.8]).as_matrix()   # scipy: scalar last, Hamilton
+    want = {"scalar=last": hamilton, "scalar=last algebra=jpl": hamilton.T}   # JPL: the transpose
+    assert [i["convention"] for i in data["interpretations"]] == list(want)
+    for interp, d in zip(parsed.interpretations, data["interpretations"]):
+        assert set(d) == {"kind", "reading", "convention", "score", "reasons", "rotation_matrix", "translation"}
+        assert d["kind"] == "position-quaternion"
+        assert d["reading"] == interp.describe() and d["reasons"] == list(interp.reasons)
+        assert d["score"] == round(float(interp.score), 6) == 1.0
+        np.testing.assert_allclose(d["rotation_matrix"], want[d["convention"]], atol=1e-12)
+        assert d["translation"] == [1.5, -2.0, 0.25]
+
+
+def test_the_plain_data_of_a_batch_holds_no_single_matrix():
+    import json
+    batch = paste.interpret_numbers(np.array([[0.1, 0.2, 0.3], [0.4, -0.5, 0.6]]))
+    for interp in batch:
+        d = json.loads(json.dumps(interp.as_dict()))
+        assert set(d) == {"kind", "reading", "convention", "score", "reasons"}     # no one matrix to show
+        assert d["convention"] == interp.convention_text() and d["kind"] == interp.kind
